@@ -1,0 +1,56 @@
+#!/usr/bin/env bash
+# Throughput benchmark (SPEC §8). Generates synthetic logs (invented data), then
+# measures, in one run:
+#   1. polars alone reading 1,000,000 runs from CSV vs `gapcert audit --format ndjson`
+#      on the same file (median of REPEATS runs each; target ratio <= 3);
+#   2. peak resident memory auditing 10,000,000 runs from Parquet (target <= 4 GB);
+#   3. the pandas + scipy reference script vs gapcert on the same file (target >= 10x).
+# Usage: benches/run.sh [ROWS=1000000] [BIG_ROWS=10000000] [REPEATS=5]
+set -euo pipefail
+cd "$(dirname "$0")/.."
+ROWS=${ROWS:-1000000}
+BIG_ROWS=${BIG_ROWS:-10000000}
+REPEATS=${REPEATS:-5}
+PY_ROWS=${PY_ROWS:-$ROWS}
+export CARGO_TARGET_DIR="${CARGO_TARGET_DIR:-/root/.cache/gapcert-target}"
+BIN="$CARGO_TARGET_DIR/release"
+DATA=bench-data
+mkdir -p "$DATA"
+
+cargo build --release --quiet
+cargo build --release --quiet --example generate_logs --example polars_read
+EX="$CARGO_TARGET_DIR/release/examples"
+
+[ -f "$DATA/runs-$ROWS.csv" ] || "$EX/generate_logs" --rows "$ROWS" --seed 7 --output "$DATA/runs-$ROWS.csv"
+
+median() { sort -g | awk '{a[NR]=$1} END {print (NR%2 ? a[(NR+1)/2] : (a[NR/2]+a[NR/2+1])/2)}'; }
+seconds() { local s e; s=$(date +%s.%N); "$@" >/dev/null 2>&1 || true; e=$(date +%s.%N); awk -v a="$s" -v b="$e" 'BEGIN {print b - a}'; }
+div() { awk -v a="$1" -v b="$2" 'BEGIN {print a / b}'; }
+
+echo "== 1. $ROWS runs from CSV ($(du -h "$DATA/runs-$ROWS.csv" | cut -f1))"
+read_times=(); audit_times=()
+for i in $(seq "$REPEATS"); do
+  read_times+=("$("$EX/polars_read" "$DATA/runs-$ROWS.csv" 2>/dev/null)")
+  audit_times+=("$(seconds "$BIN/gapcert" audit "$DATA/runs-$ROWS.csv" --format ndjson --output "$DATA/out.ndjson" --quiet)")
+done
+read_median=$(printf '%s\n' "${read_times[@]}" | median)
+audit_median=$(printf '%s\n' "${audit_times[@]}" | median)
+printf 'polars read (median of %s): %.3f s\n' "$REPEATS" "$read_median"
+printf 'gapcert audit -> ndjson (median of %s): %.3f s\n' "$REPEATS" "$audit_median"
+printf 'ratio audit/read: %.2f (target <= 3)\n' "$(div "$audit_median" "$read_median")"
+
+if [ "$BIG_ROWS" -gt 0 ]; then
+  echo "== 2. $BIG_ROWS runs from Parquet: peak resident memory"
+  [ -f "$DATA/runs-$BIG_ROWS.parquet" ] || "$EX/generate_logs" --rows "$BIG_ROWS" --seed 11 --output "$DATA/runs-$BIG_ROWS.parquet"
+  /usr/bin/time -v "$BIN/gapcert" audit "$DATA/runs-$BIG_ROWS.parquet" --format ndjson --output "$DATA/big.ndjson" --quiet 2> "$DATA/time.txt" || true
+  rss_kb=$(grep 'Maximum resident set size' "$DATA/time.txt" | awk '{print $NF}')
+  wall=$(grep 'Elapsed (wall clock)' "$DATA/time.txt" | awk '{print $NF}')
+  printf 'peak RSS: %.2f GB (target <= 4), wall %s\n' "$(div "$rss_kb" 1048576)" "$wall"
+fi
+
+echo "== 3. pandas + scipy reference vs gapcert on $PY_ROWS runs"
+python3 -c 'import pandas, scipy' 2>/dev/null || pip install --quiet pandas scipy pyarrow
+[ -f "$DATA/runs-$PY_ROWS.csv" ] || "$EX/generate_logs" --rows "$PY_ROWS" --seed 7 --output "$DATA/runs-$PY_ROWS.csv"
+py=$(seconds python3 benches/reference_audit.py "$DATA/runs-$PY_ROWS.csv" --out "$DATA/py.csv")
+rs=$(seconds "$BIN/gapcert" audit "$DATA/runs-$PY_ROWS.csv" --format csv --output "$DATA/rs.csv" --quiet)
+printf 'pandas + scipy: %.2f s, gapcert: %.2f s, speed-up %.1fx (target >= 10)\n' "$py" "$rs" "$(div "$py" "$rs")"

@@ -1,0 +1,146 @@
+//! The audit: selection correction, per-run bounds, verdicts and findings (SPEC §4).
+//!
+//! Data flows one way: ingest produced [`RunInput`]s; this module turns them into
+//! [`RunResult`]s by calling `theory/`; reports only read the results.
+
+pub mod result;
+pub mod run;
+pub mod settings;
+
+use std::collections::HashMap;
+
+use rayon::prelude::*;
+
+pub use result::{Finding, FindingCode, GateResult, RunResult, Summary, Verdict};
+pub use run::{audit_run, RunContext};
+pub use settings::{AuditSettings, Gate, HoldoutBound};
+
+use crate::ingest::RunInput;
+use crate::theory::growth::Family;
+use crate::theory::vc;
+
+/// δ after the family-wise (Bonferroni) division, when asked for.
+pub fn familywise_delta(inputs: &[RunInput], settings: &AuditSettings) -> f64 {
+    let delta = settings.delta();
+    if !settings.familywise {
+        return delta;
+    }
+    let claims = inputs
+        .iter()
+        .filter(|r| r.claim_error_rate.is_some())
+        .count();
+    delta / claims.max(1) as f64
+}
+
+/// K per run: max(candidates, runs sharing the run's held-out split).
+pub fn compared_counts(inputs: &[RunInput], settings: &AuditSettings) -> Vec<u64> {
+    if settings.same_holdout {
+        let all = inputs.len() as u64;
+        return inputs.iter().map(|r| r.candidates.max(all)).collect();
+    }
+    let mut sharing: HashMap<&str, u64> = HashMap::new();
+    for input in inputs {
+        if let Some(split) = input.holdout_set.as_deref() {
+            *sharing.entry(split).or_insert(0) += 1;
+        }
+    }
+    inputs
+        .iter()
+        .map(|r| {
+            let shared = r
+                .holdout_set
+                .as_deref()
+                .and_then(|split| sharing.get(split).copied())
+                .unwrap_or(1);
+            r.candidates.max(shared)
+        })
+        .collect()
+}
+
+/// Audits every run (in parallel; the result order is the input order).
+pub fn audit_runs(inputs: &[RunInput], settings: &AuditSettings) -> Vec<RunResult> {
+    let delta = familywise_delta(inputs, settings);
+    let compared = compared_counts(inputs, settings);
+
+    // train_needed depends only on the family, δ and the tolerance: solve once per family.
+    let mut train_needed: HashMap<FamilyId, Option<u64>> = HashMap::new();
+    for family in inputs.iter().filter_map(|r| r.family) {
+        train_needed
+            .entry(FamilyId::of(&family))
+            .or_insert_with(|| vc::train_needed(&family, settings.tolerance, delta));
+    }
+
+    inputs
+        .par_iter()
+        .zip(compared.par_iter())
+        .map(|(input, &compared)| {
+            let context = RunContext {
+                compared,
+                delta,
+                train_needed: input
+                    .family
+                    .and_then(|f| train_needed.get(&FamilyId::of(&f)).copied().flatten()),
+            };
+            audit_run(input, context, settings)
+        })
+        .collect()
+}
+
+/// Counts verdicts and applies the gate.
+pub fn summarize(results: &[RunResult], gate: Gate) -> Summary {
+    let mut summary = Summary {
+        runs: results.len(),
+        ..Summary::default()
+    };
+    for result in results {
+        match result.verdict {
+            Verdict::Certified => summary.certified += 1,
+            Verdict::Unproven => summary.unproven += 1,
+            Verdict::Refuted => summary.refuted += 1,
+            Verdict::NoClaim => summary.no_claim += 1,
+        }
+        if result.holdout_set.is_none() && result.candidates == 1 {
+            summary.reuse_unchecked += 1;
+        }
+    }
+    let fails = match gate {
+        Gate::Unproven => summary.unproven + summary.refuted > 0,
+        Gate::Refuted => summary.refuted > 0,
+        Gate::Never => false,
+    };
+    summary.gate = if fails {
+        GateResult::Fail
+    } else {
+        GateResult::Pass
+    };
+    summary
+}
+
+/// A hashable identity of a family and its parameters.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
+struct FamilyId(u8, u64, u64, u64);
+
+impl FamilyId {
+    fn of(family: &Family) -> FamilyId {
+        match *family {
+            Family::Ray => FamilyId(0, 0, 0, 0),
+            Family::Interval => FamilyId(1, 0, 0, 0),
+            Family::Linear { dim } => FamilyId(2, dim, 0, 0),
+            Family::Box { dim } => FamilyId(3, dim, 0, 0),
+            Family::Stump { features } => FamilyId(4, features, 0, 0),
+            Family::Finite { size } => FamilyId(5, size, 0, 0),
+            Family::Tree { leaves, features } => FamilyId(6, leaves, features, 0),
+            Family::Vc { vc_dim } => FamilyId(7, vc_dim, 0, 0),
+            Family::ReluNet {
+                weights,
+                layers,
+                units,
+            } => FamilyId(8, weights, layers, units),
+            Family::ThresholdNet {
+                weights,
+                layers,
+                units,
+            } => FamilyId(9, weights, layers, units),
+        }
+    }
+}

@@ -1,0 +1,181 @@
+//! The audit of one run: a pure function of the run, its K and the settings (SPEC §4).
+
+use super::result::{Finding, FindingCode, RunResult, Verdict};
+use super::settings::{AuditSettings, HoldoutBound};
+use crate::ingest::RunInput;
+use crate::theory::{binomial, hoeffding, sample_size, vc};
+
+/// What the audit knows about a run beyond its own row.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct RunContext {
+    /// K: models compared on this run's held-out split.
+    pub compared: u64,
+    /// δ after the family-wise division (before division by K).
+    pub delta: f64,
+    /// `train_needed` for the run's family at this δ (computed once per family).
+    pub train_needed: Option<u64>,
+}
+
+/// Audits one run.
+pub fn audit_run(input: &RunInput, context: RunContext, settings: &AuditSettings) -> RunResult {
+    let compared = context.compared.max(1);
+    let delta = context.delta;
+    let delta_per_run = delta / compared as f64;
+    let n = input.holdout_n;
+    let k = input.holdout_misclassified.min(n);
+    let rate = input.holdout_error_rate;
+
+    let binomial_interval = binomial::interval(k, n, delta_per_run);
+    let hoeffding_interval = hoeffding::interval(rate, n, delta_per_run);
+    let (upper, lower) = match settings.holdout_bound {
+        HoldoutBound::Binomial => (
+            binomial::upper_bound(k, n, delta_per_run),
+            binomial::lower_bound(k, n, delta_per_run),
+        ),
+        HoldoutBound::Hoeffding => {
+            let width = hoeffding::one_sided_width(n, delta_per_run);
+            ((rate + width).min(1.0), (rate - width).max(0.0))
+        }
+    };
+
+    let verdict = match input.claim_error_rate {
+        None => Verdict::NoClaim,
+        Some(claim) if upper <= claim => Verdict::Certified,
+        Some(claim) if lower > claim => Verdict::Refuted,
+        Some(_) => Verdict::Unproven,
+    };
+
+    // Theory bound from the training data: needs a known family, N and E_in.
+    let theory = match (input.family, input.train_n, input.train_error_rate) {
+        (Some(family), Some(train_n), Some(train_rate)) => {
+            let growth_ln = family.ln_growth(train_n.saturating_mul(2));
+            let allowance = vc::allowance(&family, train_n, delta);
+            Some((growth_ln, allowance, train_rate, train_n))
+        }
+        _ => None,
+    };
+
+    let holdout_needed = match (verdict, input.claim_error_rate) {
+        (Verdict::Unproven, Some(claim)) if rate < claim => match settings.holdout_bound {
+            HoldoutBound::Binomial => {
+                sample_size::holdout_needed_binomial(rate, claim, delta_per_run)
+            }
+            HoldoutBound::Hoeffding => {
+                sample_size::holdout_needed_hoeffding(rate, claim, delta_per_run)
+            }
+        },
+        _ => None,
+    };
+
+    let mut findings = Vec::new();
+    if compared > 1 {
+        findings.push(Finding {
+            code: FindingCode::HoldoutReused,
+            message: format!(
+                "{compared} models were compared on this held-out split, so each bound holds at level δ/{compared} = {delta_per_run:.3e}"
+            ),
+        });
+    }
+    let width = binomial_interval.1 - binomial_interval.0;
+    if width > settings.max_width {
+        findings.push(Finding {
+            code: FindingCode::HoldoutSmall,
+            message: format!(
+                "the two-sided binomial interval is {:.1} points wide (limit {:.1}); {n} held-out examples are too few for a precise estimate",
+                width * 100.0,
+                settings.max_width * 100.0
+            ),
+        });
+    }
+    match theory {
+        Some((_, allowance, train_rate, _)) => {
+            if lower - train_rate > allowance {
+                findings.push(Finding {
+                    code: FindingCode::GapBeyondTheory,
+                    message: format!(
+                        "even the lower bound {lower:.4} exceeds training error {train_rate:.4} by more than the VC allowance {allowance:.4}: suspect distribution shift, leakage or wrong family parameters"
+                    ),
+                });
+            }
+            if train_rate + allowance >= 1.0 {
+                findings.push(Finding {
+                    code: FindingCode::TheoryVacuous,
+                    message: format!(
+                        "the VC bound {:.3} is at least 1, so the training data alone guarantee nothing; {} would need about {} training examples for an allowance of {}",
+                        train_rate + allowance,
+                        input.family_key.as_deref().unwrap_or("this family"),
+                        context
+                            .train_needed
+                            .map(|n| n.to_string())
+                            .unwrap_or_else(|| "an unbounded number of".to_string()),
+                        settings.tolerance
+                    ),
+                });
+            }
+        }
+        None => {
+            let reason = match (&input.family_key, input.family) {
+                (None, _) => "no model family is logged".to_string(),
+                (Some(key), None) => {
+                    format!("family `{key}` has no known growth bound (see `gapcert families`)")
+                }
+                (Some(_), Some(_)) => {
+                    "the training size or training error is not logged".to_string()
+                }
+            };
+            findings.push(Finding {
+                code: FindingCode::TheoryUnavailable,
+                message: format!("no VC bound: {reason}"),
+            });
+        }
+    }
+    // Needs only the training size and error, not a family.
+    if let (Some(train_n), Some(train_rate)) = (input.train_n, input.train_error_rate) {
+        let training_margin = ((1.0 / delta).ln() / (2.0 * train_n as f64)).sqrt();
+        if upper < train_rate - training_margin {
+            findings.push(Finding {
+                code: FindingCode::HoldoutEasierThanTrain,
+                message: format!(
+                    "held-out error is significantly below training error (upper bound {upper:.4} < {train_rate:.4} − {training_margin:.4}): check the split, the logging, or leakage into the held-out set"
+                ),
+            });
+        }
+    }
+    if input.misclassified_derived {
+        findings.push(Finding {
+            code: FindingCode::MisclassifiedDerived,
+            message: format!(
+                "the held-out count {k} was derived as round(rate × n) from the logged rate; the binomial bound uses it"
+            ),
+        });
+    }
+    RunResult {
+        run: input.run.clone(),
+        source: input.source.clone(),
+        family: input.family_key.clone(),
+        train_n: input.train_n,
+        train_error_rate: input.train_error_rate,
+        holdout_n: n,
+        holdout_error_rate: rate,
+        holdout_misclassified: k,
+        holdout_set: input.holdout_set.clone(),
+        candidates: compared,
+        delta: delta_per_run,
+        hoeffding_interval: [hoeffding_interval.0, hoeffding_interval.1],
+        binomial_interval: [binomial_interval.0, binomial_interval.1],
+        error_upper_bound: upper,
+        error_lower_bound: lower,
+        vc_dim: input.family.and_then(|f| f.vc_dim()),
+        growth_ln: theory.map(|t| t.0),
+        vc_allowance: theory.map(|t| t.1),
+        vc_bound: theory.map(|(_, allowance, train_rate, _)| (train_rate + allowance).min(1.0)),
+        observed_gap: input.train_error_rate.map(|train| rate - train),
+        certified_gap_max: input.train_error_rate.map(|train| upper - train),
+        claim_error_rate: input.claim_error_rate,
+        verdict,
+        holdout_needed,
+        train_needed: context.train_needed,
+        findings,
+        logged_at: input.logged_at.clone(),
+    }
+}

@@ -1,0 +1,222 @@
+//! Command-line definitions (clap derive) only: raw flags as the user typed them.
+//! [`crate::app`] validates them into settings; nothing downstream reads these.
+
+use std::path::PathBuf;
+
+use clap::{Args, Parser, Subcommand, ValueEnum};
+
+#[derive(Debug, Parser)]
+#[command(
+    name = "gapcert",
+    version,
+    about = "Audit machine-learning run logs: certify, or refuse to certify, the accuracy they claim",
+    long_about = "gapcert reads experiment logs (CSV, TSV, Parquet, JSON lines, JSON, Arrow), bounds each run's true error from its held-out results (exact binomial or Hoeffding, corrected for the number of models compared on the same split) and from its training results (VC bound), and says whether each claim is certified, unproven or refuted.\n\nExit codes: 0 the gate passes, 1 the gate fails, 2 bad input or usage."
+)]
+pub struct Cli {
+    #[command(subcommand)]
+    pub command: Command,
+    /// Print nothing but errors (the report still goes to --output files).
+    #[arg(long, short = 'q', global = true)]
+    pub quiet: bool,
+    /// Say more: list skipped files and rows on stderr.
+    #[arg(long, short = 'v', global = true)]
+    pub verbose: bool,
+}
+
+#[derive(Debug, Subcommand)]
+pub enum Command {
+    /// Audit run logs (files or folders, searched recursively).
+    Audit(AuditArgs),
+    /// Audit the built-in demo logs (an invented scenario).
+    Demo(AuditOptions),
+    /// Sample sizes needed to certify a claim.
+    #[command(subcommand)]
+    Plan(PlanCommand),
+    /// Table of the growth function m_H(N) against 2^N, with the break point.
+    Growth(GrowthArgs),
+    /// List the model families, their growth functions and sources.
+    Families(FormatArgs),
+    /// Re-hash a certificate's inputs, recompute the audit and report any drift.
+    Verify(VerifyArgs),
+}
+
+#[derive(Debug, Args)]
+pub struct AuditArgs {
+    /// Log files or folders.
+    #[arg(required = true, value_name = "PATH")]
+    pub paths: Vec<PathBuf>,
+    #[command(flatten)]
+    pub options: AuditOptions,
+}
+
+#[derive(Debug, Args)]
+pub struct AuditOptions {
+    /// Confidence of every bound (δ = 1 − confidence).
+    #[arg(long, default_value_t = 0.95, value_name = "C")]
+    pub confidence: f64,
+    /// Which held-out bound decides the verdict.
+    #[arg(long, value_enum, default_value_t = BoundArg::Binomial)]
+    pub holdout_bound: BoundArg,
+    /// Claimed accuracy for rows that carry no claim.
+    #[arg(long, value_name = "X")]
+    pub claim_accuracy: Option<f64>,
+    /// Divide δ by the number of claims so all certificates hold together (Bonferroni).
+    #[arg(long)]
+    pub familywise: bool,
+    /// Declare that every run was evaluated on one shared held-out split.
+    #[arg(long)]
+    pub same_holdout: bool,
+    /// Target VC allowance for train_needed.
+    #[arg(long, default_value_t = 0.05, value_name = "T")]
+    pub tolerance: f64,
+    /// Widest acceptable two-sided binomial interval before holdout_small.
+    #[arg(long, default_value_t = 0.10, value_name = "W")]
+    pub max_width: f64,
+    /// Rates, accuracies and claims are percentages (0–100).
+    #[arg(long)]
+    pub percent: bool,
+    /// Skip bad rows (and list them) instead of failing.
+    #[arg(long)]
+    pub lenient: bool,
+    /// Rename a column: canonical=theirs (repeatable).
+    #[arg(long = "map", value_name = "CANONICAL=THEIRS")]
+    pub map: Vec<String>,
+    /// JSON object of canonical → their column names.
+    #[arg(long, value_name = "FILE")]
+    pub map_file: Option<PathBuf>,
+    /// Output format.
+    #[arg(long, value_enum, default_value_t = ReportFormatArg::Table)]
+    pub format: ReportFormatArg,
+    /// Write the report to FILE (atomically) instead of standard output.
+    #[arg(long, short = 'o', value_name = "FILE")]
+    pub output: Option<PathBuf>,
+    /// Also write a verifiable certificate (JSON) to FILE.
+    #[arg(long, value_name = "FILE")]
+    pub certificate: Option<PathBuf>,
+    /// Also write a self-contained HTML page with charts to FILE.
+    #[arg(long, value_name = "FILE")]
+    pub html: Option<PathBuf>,
+    /// Which verdicts fail the gate (exit code 1).
+    #[arg(long, value_enum, default_value_t = GateArg::Unproven)]
+    pub gate: GateArg,
+}
+
+#[derive(Debug, Subcommand)]
+pub enum PlanCommand {
+    /// Held-out examples needed to certify a claim at an observed error rate.
+    Holdout(PlanHoldoutArgs),
+    /// Training examples needed for the VC allowance to reach a tolerance.
+    Train(PlanTrainArgs),
+}
+
+#[derive(Debug, Args)]
+pub struct PlanHoldoutArgs {
+    /// Expected (observed) held-out error rate.
+    #[arg(long, value_name = "E")]
+    pub error_rate: f64,
+    /// The accuracy to certify.
+    #[arg(long, value_name = "A")]
+    pub claim_accuracy: f64,
+    /// Models compared on the same held-out split.
+    #[arg(long, default_value_t = 1, value_name = "K")]
+    pub candidates: u64,
+    #[arg(long, default_value_t = 0.95, value_name = "C")]
+    pub confidence: f64,
+    #[command(flatten)]
+    pub format: FormatArgs,
+}
+
+#[derive(Debug, Args)]
+pub struct PlanTrainArgs {
+    #[command(flatten)]
+    pub family: FamilyArgs,
+    /// Target VC allowance.
+    #[arg(long, default_value_t = 0.05, value_name = "T")]
+    pub tolerance: f64,
+    #[arg(long, default_value_t = 0.95, value_name = "C")]
+    pub confidence: f64,
+    #[command(flatten)]
+    pub format: FormatArgs,
+}
+
+#[derive(Debug, Args)]
+pub struct GrowthArgs {
+    #[command(flatten)]
+    pub family: FamilyArgs,
+    /// Largest N in the table.
+    #[arg(long, default_value_t = 10, value_name = "N")]
+    pub upto: u64,
+    /// Also draw m_H(N) against 2^N as an SVG chart.
+    #[arg(long, value_name = "FILE")]
+    pub svg: Option<PathBuf>,
+    #[command(flatten)]
+    pub format: FormatArgs,
+}
+
+#[derive(Debug, Args)]
+pub struct FamilyArgs {
+    /// Family key (see `gapcert families`).
+    #[arg(long, value_name = "F")]
+    pub family: String,
+    #[arg(long)]
+    pub dim: Option<i64>,
+    #[arg(long)]
+    pub vc_dim: Option<i64>,
+    #[arg(long)]
+    pub size: Option<i64>,
+    #[arg(long)]
+    pub weights: Option<i64>,
+    #[arg(long)]
+    pub layers: Option<i64>,
+    #[arg(long)]
+    pub units: Option<i64>,
+    #[arg(long)]
+    pub leaves: Option<i64>,
+    #[arg(long)]
+    pub features: Option<i64>,
+}
+
+#[derive(Debug, Args)]
+pub struct FormatArgs {
+    /// Output format.
+    #[arg(long, value_enum, default_value_t = SimpleFormatArg::Table)]
+    pub format: SimpleFormatArg,
+}
+
+#[derive(Debug, Args)]
+pub struct VerifyArgs {
+    /// A certificate written by `gapcert audit --certificate`.
+    #[arg(value_name = "CERTIFICATE")]
+    pub certificate: PathBuf,
+    #[command(flatten)]
+    pub format: FormatArgs,
+}
+
+#[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
+pub enum BoundArg {
+    Binomial,
+    Hoeffding,
+}
+
+#[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
+pub enum GateArg {
+    Unproven,
+    Refuted,
+    Never,
+}
+
+#[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
+pub enum ReportFormatArg {
+    Table,
+    Json,
+    Ndjson,
+    Csv,
+    Parquet,
+    Markdown,
+}
+
+#[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
+pub enum SimpleFormatArg {
+    Table,
+    Json,
+}

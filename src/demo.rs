@@ -1,0 +1,17 @@
+//! The built-in demo logs: an invented scenario (see fixtures/demo/README.md), compiled
+//! into the binary so `gapcert demo` works anywhere. The same file is
+//! `fixtures/demo/runs.csv`, so `gapcert audit fixtures/demo/runs.csv` gives the same
+//! verdicts.
+
+use crate::ingest::{LogFormat, LogSource};
+
+/// The demo log as compiled in.
+pub const DEMO_RUNS_CSV: &[u8] = include_bytes!("../fixtures/demo/runs.csv");
+
+/// The label the demo log is reported under.
+pub const DEMO_LABEL: &str = "demo/runs.csv";
+
+/// The demo's log sources.
+pub fn sources() -> Vec<LogSource> {
+    vec![LogSource::Memory(DEMO_LABEL, DEMO_RUNS_CSV, LogFormat::Csv)]
+}

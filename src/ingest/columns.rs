@@ -1,0 +1,292 @@
+//! Canonical column names, `--map` renames, and typed extraction of one column.
+//!
+//! Extraction turns any polars column (text, integer or float) into typed cells and
+//! reports every cell that cannot be read, with its 1-based row.
+
+use std::collections::HashMap;
+
+use polars::prelude::*;
+
+use super::problem::Problem;
+
+/// Every canonical column gapcert reads (SPEC §3).
+pub const CANONICAL_COLUMNS: &[&str] = &[
+    "run",
+    "family",
+    "dim",
+    "vc_dim",
+    "size",
+    "weights",
+    "layers",
+    "units",
+    "leaves",
+    "features",
+    "train_n",
+    "train_error_rate",
+    "train_accuracy",
+    "train_misclassified",
+    "holdout_n",
+    "holdout_error_rate",
+    "holdout_accuracy",
+    "holdout_misclassified",
+    "holdout_set",
+    "candidates",
+    "claimed_accuracy",
+    "claimed_error_rate",
+    "logged_at",
+];
+
+/// Which column of a file holds each canonical field: canonical name → column index.
+#[derive(Debug, Default)]
+pub struct ColumnBinding {
+    pub index: HashMap<&'static str, usize>,
+}
+
+/// Validates `--map canonical=theirs` pairs: the canonical side must be a known column.
+pub fn check_column_map(pairs: &[(String, String)]) -> Result<(), String> {
+    for (canonical, theirs) in pairs {
+        if !CANONICAL_COLUMNS.contains(&canonical.to_ascii_lowercase().as_str()) {
+            return Err(format!(
+                "--map {canonical}={theirs}: `{canonical}` is not a gapcert column; known columns: {}",
+                CANONICAL_COLUMNS.join(", ")
+            ));
+        }
+        if theirs.trim().is_empty() {
+            return Err(format!("--map {canonical}=: the log column name is empty"));
+        }
+    }
+    Ok(())
+}
+
+/// Parses `canonical=theirs`.
+pub fn parse_map_pair(text: &str) -> Result<(String, String), String> {
+    match text.split_once('=') {
+        Some((canonical, theirs)) if !canonical.trim().is_empty() => Ok((
+            canonical.trim().to_ascii_lowercase(),
+            theirs.trim().to_string(),
+        )),
+        _ => Err(format!(
+            "--map {text}: expected canonical=theirs, for example holdout_error_rate=val_err"
+        )),
+    }
+}
+
+/// Parses a `--map-file`: a JSON object of canonical → their column name.
+pub fn parse_map_file(label: &str, text: &str) -> Result<Vec<(String, String)>, String> {
+    let value: serde_json::Value =
+        serde_json::from_str(text).map_err(|error| format!("{label}: invalid JSON ({error})"))?;
+    let serde_json::Value::Object(map) = value else {
+        return Err(format!(
+            "{label}: expected a JSON object such as {{\"holdout_n\": \"n_val\"}}"
+        ));
+    };
+    let mut pairs = Vec::with_capacity(map.len());
+    for (canonical, theirs) in map {
+        match theirs {
+            serde_json::Value::String(theirs) => {
+                pairs.push((canonical.trim().to_ascii_lowercase(), theirs))
+            }
+            other => {
+                return Err(format!(
+                    "{label}: the value for `{canonical}` must be a column name (text), not {other}"
+                ))
+            }
+        }
+    }
+    Ok(pairs)
+}
+
+/// Binds canonical fields to the file's columns, case-insensitively, after renames.
+/// A renamed canonical field looks only for its mapped name.
+pub fn bind_columns(df: &DataFrame, column_map: &[(String, String)]) -> ColumnBinding {
+    let names: Vec<String> = df
+        .get_column_names()
+        .iter()
+        .map(|name| name.trim().to_ascii_lowercase())
+        .collect();
+    let mut binding = ColumnBinding::default();
+    for &canonical in CANONICAL_COLUMNS {
+        let wanted = column_map
+            .iter()
+            .rev()
+            .find(|(c, _)| c == canonical)
+            .map(|(_, theirs)| theirs.trim().to_ascii_lowercase())
+            .unwrap_or_else(|| canonical.to_string());
+        if let Some(index) = names.iter().position(|name| *name == wanted) {
+            binding.index.insert(canonical, index);
+        }
+    }
+    binding
+}
+
+/// The display name of a bound column (as written in the file).
+pub fn column_name(df: &DataFrame, index: usize) -> String {
+    df.columns()[index].name().to_string()
+}
+
+/// A numeric column's cells; `None` for an empty or unreadable cell (unreadable ones
+/// are reported).
+pub fn extract_f64(
+    label: &str,
+    df: &DataFrame,
+    index: usize,
+    problems: &mut Vec<Problem>,
+) -> Vec<Option<f64>> {
+    let column = &df.columns()[index];
+    let name = column.name().to_string();
+    let series = column.as_materialized_series();
+    match series.dtype() {
+        DataType::String => {
+            let text = series.str().expect("dtype checked");
+            text.iter()
+                .enumerate()
+                .map(|(row, cell)| match cell.map(str::trim) {
+                    None | Some("") => None,
+                    Some(value) => match parse_float(value) {
+                        Some(number) => Some(number),
+                        None => {
+                            problems.push(Problem::cell(
+                                label,
+                                row + 1,
+                                &name,
+                                format!("{name} = {value:?} is not a number"),
+                            ));
+                            None
+                        }
+                    },
+                })
+                .collect()
+        }
+        dtype if dtype.is_primitive_numeric() => match series.cast(&DataType::Float64) {
+            Ok(cast) => cast.f64().expect("cast to f64").iter().collect(),
+            Err(_) => unreadable_column(label, &name, series, problems),
+        },
+        _ => unreadable_column(label, &name, series, problems),
+    }
+}
+
+/// An integer column's cells. Integral floats (`1000.0`) are accepted; fractions are
+/// reported.
+pub fn extract_i64(
+    label: &str,
+    df: &DataFrame,
+    index: usize,
+    problems: &mut Vec<Problem>,
+) -> Vec<Option<i64>> {
+    let column = &df.columns()[index];
+    let name = column.name().to_string();
+    let series = column.as_materialized_series();
+    let integral = |row: usize, value: f64, text: &str, problems: &mut Vec<Problem>| {
+        if value.is_finite() && value.fract() == 0.0 && value.abs() < 9.2e18 {
+            Some(value as i64)
+        } else {
+            problems.push(Problem::cell(
+                label,
+                row + 1,
+                &name,
+                format!("{name} = {text} is not a whole number"),
+            ));
+            None
+        }
+    };
+    match series.dtype() {
+        DataType::String => {
+            let text = series.str().expect("dtype checked");
+            text.iter()
+                .enumerate()
+                .map(|(row, cell)| match cell.map(str::trim) {
+                    None | Some("") => None,
+                    Some(value) => {
+                        if let Ok(number) = value.parse::<i64>() {
+                            Some(number)
+                        } else if let Some(number) = parse_float(value) {
+                            integral(row, number, value, problems)
+                        } else {
+                            problems.push(Problem::cell(
+                                label,
+                                row + 1,
+                                &name,
+                                format!("{name} = {value:?} is not a whole number"),
+                            ));
+                            None
+                        }
+                    }
+                })
+                .collect()
+        }
+        dtype if dtype.is_integer() => match series.cast(&DataType::Int64) {
+            Ok(cast) => {
+                let cells: Vec<Option<i64>> = cast.i64().expect("cast to i64").iter().collect();
+                // A u64 above i64::MAX casts to null; report it rather than lose it.
+                let original_nulls = series.is_null();
+                for (row, cell) in cells.iter().enumerate() {
+                    if cell.is_none() && !original_nulls.get(row).unwrap_or(true) {
+                        problems.push(Problem::cell(
+                            label,
+                            row + 1,
+                            &name,
+                            format!("{name} is larger than 9223372036854775807"),
+                        ));
+                    }
+                }
+                cells
+            }
+            Err(_) => unreadable_column(label, &name, series, problems),
+        },
+        dtype if dtype.is_float() => {
+            let cast = series.cast(&DataType::Float64).expect("float to f64");
+            cast.f64()
+                .expect("cast to f64")
+                .iter()
+                .enumerate()
+                .map(|(row, cell)| cell.and_then(|v| integral(row, v, &v.to_string(), problems)))
+                .collect()
+        }
+        _ => unreadable_column(label, &name, series, problems),
+    }
+}
+
+/// A text column's cells (numbers and timestamps rendered as text); empty cells are `None`.
+pub fn extract_text(df: &DataFrame, index: usize) -> Vec<Option<String>> {
+    let series = df.columns()[index].as_materialized_series();
+    let text = match series.dtype() {
+        DataType::String => series.clone(),
+        _ => match series.cast(&DataType::String) {
+            Ok(cast) => cast,
+            Err(_) => return vec![None; series.len()],
+        },
+    };
+    text.str()
+        .expect("string column")
+        .iter()
+        .map(|cell| {
+            cell.map(str::trim)
+                .filter(|c| !c.is_empty())
+                .map(str::to_string)
+        })
+        .collect()
+}
+
+fn unreadable_column<T>(
+    label: &str,
+    name: &str,
+    series: &Series,
+    problems: &mut Vec<Problem>,
+) -> Vec<Option<T>> {
+    problems.push(Problem {
+        file: label.to_string(),
+        row: None,
+        column: Some(name.to_string()),
+        message: format!(
+            "column {name} has type {} where numbers were expected",
+            series.dtype()
+        ),
+    });
+    (0..series.len()).map(|_| None).collect()
+}
+
+/// Parses a decimal number as written in logs. Accepts `nan`/`inf` spellings so the
+/// validator can name them, rather than calling them "not a number".
+pub fn parse_float(text: &str) -> Option<f64> {
+    text.parse::<f64>().ok()
+}

@@ -1,0 +1,130 @@
+//! Finding log files: explicit paths and recursive folder walks.
+//!
+//! Paths are always local filesystem paths. Nothing here (or downstream) interprets a
+//! path as a URL: `s3://bucket/x.csv` is simply a file name that does not exist.
+
+use std::path::{Path, PathBuf};
+
+use super::problem::IngestError;
+
+/// The log formats gapcert reads, chosen by file extension.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum LogFormat {
+    Csv,
+    Tsv,
+    Parquet,
+    JsonLines,
+    Json,
+    Arrow,
+}
+
+impl LogFormat {
+    /// The format for a file name, by its extension (case-insensitive).
+    pub fn from_path(path: &Path) -> Option<LogFormat> {
+        let extension = path.extension()?.to_str()?.to_ascii_lowercase();
+        match extension.as_str() {
+            "csv" => Some(LogFormat::Csv),
+            "tsv" => Some(LogFormat::Tsv),
+            "parquet" => Some(LogFormat::Parquet),
+            "jsonl" | "ndjson" => Some(LogFormat::JsonLines),
+            "json" => Some(LogFormat::Json),
+            "arrow" | "ipc" | "feather" => Some(LogFormat::Arrow),
+            _ => None,
+        }
+    }
+}
+
+/// A log file to read.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct LogFile {
+    pub path: PathBuf,
+    pub format: LogFormat,
+}
+
+/// What discovery found: logs to read and files skipped inside folders.
+#[derive(Clone, Debug, Default, PartialEq, Eq)]
+pub struct Discovery {
+    pub logs: Vec<LogFile>,
+    pub skipped_files: Vec<PathBuf>,
+}
+
+/// Expands the given paths into log files. Folders are walked recursively in sorted
+/// order (so results do not depend on directory order); files of other types inside
+/// folders are skipped and counted; an explicit file of unknown type is an error.
+pub fn discover(paths: &[PathBuf]) -> Result<Discovery, IngestError> {
+    let mut discovery = Discovery::default();
+    for path in paths {
+        let metadata = std::fs::metadata(path).map_err(|error| {
+            IngestError::Usage(format!(
+                "{}: cannot read this path ({}); gapcert reads local files and folders only",
+                path.display(),
+                describe_io_error(&error)
+            ))
+        })?;
+        if metadata.is_dir() {
+            walk(path, &mut discovery)?;
+        } else {
+            match LogFormat::from_path(path) {
+                Some(format) => discovery.logs.push(LogFile {
+                    path: path.clone(),
+                    format,
+                }),
+                None => {
+                    return Err(IngestError::Usage(format!(
+                        "{}: unknown log type; expected .csv, .tsv, .parquet, .jsonl, .ndjson, .json, .arrow, .ipc or .feather",
+                        path.display()
+                    )))
+                }
+            }
+        }
+    }
+    if discovery.logs.is_empty() {
+        let listed: Vec<String> = paths.iter().map(|p| p.display().to_string()).collect();
+        return Err(IngestError::Usage(format!(
+            "no log files found in {} ({} other file(s) skipped)",
+            listed.join(", "),
+            discovery.skipped_files.len()
+        )));
+    }
+    Ok(discovery)
+}
+
+fn walk(folder: &Path, discovery: &mut Discovery) -> Result<(), IngestError> {
+    let entries = std::fs::read_dir(folder).map_err(|error| {
+        IngestError::Usage(format!(
+            "{}: cannot list this folder ({})",
+            folder.display(),
+            describe_io_error(&error)
+        ))
+    })?;
+    let mut children: Vec<PathBuf> = entries
+        .filter_map(|entry| entry.ok().map(|e| e.path()))
+        .collect();
+    children.sort();
+    for child in children {
+        let Ok(metadata) = std::fs::metadata(&child) else {
+            discovery.skipped_files.push(child);
+            continue;
+        };
+        if metadata.is_dir() {
+            walk(&child, discovery)?;
+        } else if let Some(format) = LogFormat::from_path(&child) {
+            discovery.logs.push(LogFile {
+                path: child,
+                format,
+            });
+        } else {
+            discovery.skipped_files.push(child);
+        }
+    }
+    Ok(())
+}
+
+/// A short, human description of an I/O error without the OS error number.
+pub fn describe_io_error(error: &std::io::Error) -> String {
+    match error.kind() {
+        std::io::ErrorKind::NotFound => "no such file or folder".to_string(),
+        std::io::ErrorKind::PermissionDenied => "permission denied".to_string(),
+        _ => error.to_string(),
+    }
+}

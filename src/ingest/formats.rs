@@ -1,0 +1,304 @@
+//! Turning the bytes of one log file into a table of columns.
+//!
+//! CSV, TSV, Parquet and Arrow IPC are read by polars. JSON and JSON lines are parsed
+//! with serde_json and assembled into a polars DataFrame here: polars' JSON reader may
+//! turn a value of an unexpected type into null, and a silently vanished value is what
+//! an audit must never allow. Parsing ourselves also gives the exact record of a
+//! truncated or malformed line.
+
+use std::io::Cursor;
+
+use polars::prelude::*;
+use serde_json::Value;
+
+use super::discover::LogFormat;
+use super::problem::Problem;
+
+const UTF8_BOM: &[u8] = &[0xEF, 0xBB, 0xBF];
+
+/// Reads one file's bytes into a DataFrame; `label` names the file in problems.
+/// Cell-level JSON problems are returned alongside a table in which those cells are null.
+pub fn read_table(
+    label: &str,
+    bytes: &[u8],
+    format: LogFormat,
+) -> Result<(DataFrame, Vec<Problem>), Vec<Problem>> {
+    if bytes.is_empty() {
+        return Err(vec![Problem::file(label, "the file is empty")]);
+    }
+    match format {
+        LogFormat::Csv => read_delimited(label, bytes, b',').map(|df| (df, Vec::new())),
+        LogFormat::Tsv => read_delimited(label, bytes, b'\t').map(|df| (df, Vec::new())),
+        LogFormat::Parquet => ParquetReader::new(Cursor::new(bytes))
+            .finish()
+            .map(|df| (df, Vec::new()))
+            .map_err(|error| {
+                vec![Problem::file(
+                    label,
+                    format!("cannot read as Parquet: {}", polars_message(&error)),
+                )]
+            }),
+        LogFormat::Arrow => IpcReader::new(Cursor::new(bytes))
+            .finish()
+            .map(|df| (df, Vec::new()))
+            .map_err(|error| {
+                vec![Problem::file(
+                    label,
+                    format!("cannot read as Arrow IPC: {}", polars_message(&error)),
+                )]
+            }),
+        LogFormat::JsonLines => read_json_lines(label, strip_bom(bytes)),
+        LogFormat::Json => read_json_document(label, strip_bom(bytes)),
+    }
+}
+
+fn strip_bom(bytes: &[u8]) -> &[u8] {
+    bytes.strip_prefix(UTF8_BOM).unwrap_or(bytes)
+}
+
+/// The first line of a polars error, without its internal context.
+pub fn polars_message(error: &PolarsError) -> String {
+    let text = error.to_string();
+    text.lines()
+        .next()
+        .unwrap_or("unknown error")
+        .trim()
+        .to_string()
+}
+
+/// Reads CSV or TSV. Every column is read as text and typed later by the column
+/// extractor, which reports each unparsable cell with its row and column; polars' own
+/// typed parse would stop at the first bad cell without saying which row it was.
+fn read_delimited(label: &str, bytes: &[u8], separator: u8) -> Result<DataFrame, Vec<Problem>> {
+    let bytes = strip_bom(bytes);
+    if bytes.iter().all(|b| b.is_ascii_whitespace()) {
+        return Err(vec![Problem::file(label, "the file is empty")]);
+    }
+    let parse_options = CsvParseOptions::default()
+        .with_separator(separator)
+        .with_truncate_ragged_lines(false);
+    let options = CsvReadOptions::default()
+        .with_has_header(true)
+        .with_infer_schema_length(Some(0))
+        .with_parse_options(parse_options);
+    let df = options
+        .into_reader_with_file_handle(Cursor::new(bytes))
+        .finish()
+        .map_err(|error| {
+            vec![Problem::file(
+                label,
+                format!("cannot read as delimited text: {}", polars_message(&error)),
+            )]
+        })?;
+    Ok(strip_carriage_returns(df))
+}
+
+/// CRLF files leave a trailing `\r` in the last column's cells (and its name) on some
+/// polars versions; remove it so such files read like LF files.
+fn strip_carriage_returns(df: DataFrame) -> DataFrame {
+    let Some(last) = df.columns().last() else {
+        return df;
+    };
+    let name_has_cr = last.name().ends_with('\r');
+    let Ok(text) = last.as_materialized_series().str() else {
+        return df;
+    };
+    let cells_have_cr = text
+        .iter()
+        .any(|cell| cell.is_some_and(|c| c.ends_with('\r')));
+    if !name_has_cr && !cells_have_cr {
+        return df;
+    }
+    let new_name = last.name().trim_end_matches('\r').to_string();
+    let cleaned: Vec<Option<String>> = text
+        .iter()
+        .map(|cell| {
+            cell.map(|c| c.trim_end_matches('\r').to_string())
+                .filter(|c| !c.is_empty())
+        })
+        .collect();
+    let mut columns: Vec<Column> = df.columns().to_vec();
+    let index = columns.len() - 1;
+    columns[index] = Series::new(new_name.as_str().into(), cleaned).into();
+    DataFrame::new(df.height(), columns).unwrap_or(df)
+}
+
+fn read_json_lines(label: &str, bytes: &[u8]) -> Result<(DataFrame, Vec<Problem>), Vec<Problem>> {
+    let text = std::str::from_utf8(bytes)
+        .map_err(|_| vec![Problem::file(label, "the file is not valid UTF-8")])?;
+    let mut records = Vec::new();
+    let mut problems = Vec::new();
+    let mut record_number = 0usize;
+    for line in text.lines() {
+        if line.trim().is_empty() {
+            continue;
+        }
+        record_number += 1;
+        match serde_json::from_str::<Value>(line) {
+            Ok(Value::Object(map)) => records.push(Some(map)),
+            Ok(_) => {
+                problems.push(Problem::row(
+                    label,
+                    record_number,
+                    "the line is JSON but not an object (one run per line expected)",
+                ));
+                records.push(None);
+            }
+            Err(error) => {
+                problems.push(Problem::row(
+                    label,
+                    record_number,
+                    format!("invalid JSON ({})", json_error_kind(&error)),
+                ));
+                records.push(None);
+            }
+        }
+    }
+    if records.is_empty() {
+        return Err(vec![Problem::file(label, "the file holds no JSON records")]);
+    }
+    let (df, mut cell_problems) = records_to_frame(label, &records);
+    problems.append(&mut cell_problems);
+    Ok((df, problems))
+}
+
+fn read_json_document(
+    label: &str,
+    bytes: &[u8],
+) -> Result<(DataFrame, Vec<Problem>), Vec<Problem>> {
+    let document: Value = serde_json::from_slice(bytes).map_err(|error| {
+        vec![Problem::file(
+            label,
+            format!(
+                "invalid JSON at line {}, column {} ({})",
+                error.line(),
+                error.column(),
+                json_error_kind(&error)
+            ),
+        )]
+    })?;
+    let mut problems = Vec::new();
+    let records: Vec<Option<serde_json::Map<String, Value>>> = match document {
+        Value::Object(map) => vec![Some(map)],
+        Value::Array(items) => items
+            .into_iter()
+            .enumerate()
+            .map(|(index, item)| match item {
+                Value::Object(map) => Some(map),
+                _ => {
+                    problems.push(Problem::row(
+                        label,
+                        index + 1,
+                        "the array element is not an object (one run per element expected)",
+                    ));
+                    None
+                }
+            })
+            .collect(),
+        _ => {
+            return Err(vec![Problem::file(
+                label,
+                "the JSON document is neither an object (one run) nor an array of runs",
+            )])
+        }
+    };
+    if records.is_empty() {
+        return Err(vec![Problem::file(label, "the JSON array holds no runs")]);
+    }
+    let (df, mut cell_problems) = records_to_frame(label, &records);
+    problems.append(&mut cell_problems);
+    Ok((df, problems))
+}
+
+fn json_error_kind(error: &serde_json::Error) -> &'static str {
+    match error.classify() {
+        serde_json::error::Category::Eof => "unexpected end of input: truncated?",
+        serde_json::error::Category::Syntax => "syntax error",
+        serde_json::error::Category::Data => "unexpected data",
+        serde_json::error::Category::Io => "read error",
+    }
+}
+
+/// Builds a DataFrame from JSON objects. A column whose values are all numbers
+/// becomes numeric; a column with any string keeps every value as text (numbers in
+/// their JSON spelling), so the column extractor sees exactly what was written.
+/// Booleans, arrays and objects are reported and become null.
+fn records_to_frame(
+    label: &str,
+    records: &[Option<serde_json::Map<String, Value>>],
+) -> (DataFrame, Vec<Problem>) {
+    let mut names: Vec<String> = Vec::new();
+    let mut seen = std::collections::HashSet::new();
+    for map in records.iter().flatten() {
+        for key in map.keys() {
+            if seen.insert(key.clone()) {
+                names.push(key.clone());
+            }
+        }
+    }
+    let mut problems = Vec::new();
+    let mut columns = Vec::with_capacity(names.len());
+    for name in &names {
+        let values: Vec<Option<&Value>> = records
+            .iter()
+            .map(|record| record.as_ref().and_then(|map| map.get(name)))
+            .collect();
+        let any_text = values.iter().any(|v| matches!(v, Some(Value::String(_))));
+        let all_integers = values
+            .iter()
+            .all(|v| !matches!(v, Some(Value::Number(n)) if n.as_i64().is_none()));
+        let mut text_cells: Vec<Option<String>> = Vec::new();
+        let mut integer_cells: Vec<Option<i64>> = Vec::new();
+        let mut float_cells: Vec<Option<f64>> = Vec::new();
+        for (index, value) in values.iter().enumerate() {
+            let cell: Option<&Value> = match value {
+                None | Some(Value::Null) => None,
+                Some(Value::Bool(_)) | Some(Value::Array(_)) | Some(Value::Object(_)) => {
+                    problems.push(Problem::cell(
+                        label,
+                        index + 1,
+                        name,
+                        format!(
+                            "{name} holds a JSON {} where a number or text was expected",
+                            json_kind(value.unwrap())
+                        ),
+                    ));
+                    None
+                }
+                Some(other) => Some(other),
+            };
+            if any_text {
+                text_cells.push(cell.map(|v| match v {
+                    Value::String(s) => s.clone(),
+                    other => other.to_string(),
+                }));
+            } else if all_integers {
+                integer_cells.push(cell.and_then(|v| v.as_i64()));
+            } else {
+                float_cells.push(cell.and_then(|v| v.as_f64()));
+            }
+        }
+        let series = if any_text {
+            Series::new(name.as_str().into(), text_cells)
+        } else if all_integers {
+            Series::new(name.as_str().into(), integer_cells)
+        } else {
+            Series::new(name.as_str().into(), float_cells)
+        };
+        columns.push(Column::from(series));
+    }
+    let df = DataFrame::new(records.len(), columns)
+        .unwrap_or_else(|_| DataFrame::empty_with_height(records.len()));
+    (df, problems)
+}
+
+fn json_kind(value: &Value) -> &'static str {
+    match value {
+        Value::Bool(_) => "boolean",
+        Value::Array(_) => "array",
+        Value::Object(_) => "object",
+        Value::Null => "null",
+        Value::Number(_) => "number",
+        Value::String(_) => "string",
+    }
+}

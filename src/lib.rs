@@ -1,0 +1,62 @@
+//! gapcert audits machine-learning run logs and certifies, or refuses to certify, the
+//! accuracy they claim.
+//!
+//! Data flows one way: [`ingest`] reads logs into validated runs, [`audit`] evaluates
+//! each run with the pure mathematics of [`theory`], and [`report`] renders the result.
+
+pub mod app;
+pub mod audit;
+pub mod certificate;
+pub mod cli;
+pub mod demo;
+pub mod ingest;
+pub mod report;
+pub mod theory;
+
+use audit::{audit_runs, summarize, AuditSettings};
+use ingest::{IngestError, IngestOutcome, IngestSettings, LogSource};
+use report::{AuditDocument, DocumentSettings, ToolInfo, CAUTIONS};
+
+/// Audits already-ingested runs and assembles the document.
+pub fn audit_outcome(
+    outcome: IngestOutcome,
+    audit_settings: &AuditSettings,
+    ingest_settings: &IngestSettings,
+) -> AuditDocument {
+    let runs = audit_runs(&outcome.runs, audit_settings);
+    let mut summary = summarize(&runs, audit_settings.gate);
+    summary.rows_skipped = outcome.skipped_rows.len();
+    summary.rows_read = runs.len() + outcome.skipped_rows.len();
+    summary.files_skipped = outcome.skipped_files.len();
+    AuditDocument {
+        tool: ToolInfo::current(),
+        generated_at: report::document::now_rfc3339(),
+        settings: DocumentSettings::new(audit_settings, ingest_settings),
+        inputs: outcome.inputs,
+        runs,
+        summary,
+        skipped_rows: outcome.skipped_rows,
+        skipped_files: outcome.skipped_files,
+        cautions: CAUTIONS.iter().map(|c| c.to_string()).collect(),
+    }
+}
+
+/// Reads and audits the logs at `paths` (files or folders).
+pub fn audit_paths(
+    paths: &[std::path::PathBuf],
+    audit_settings: &AuditSettings,
+    ingest_settings: &IngestSettings,
+) -> Result<AuditDocument, IngestError> {
+    let outcome = ingest::read_paths(paths, ingest_settings)?;
+    Ok(audit_outcome(outcome, audit_settings, ingest_settings))
+}
+
+/// Reads and audits the given sources (files or in-memory logs).
+pub fn audit_sources(
+    sources: &[LogSource],
+    audit_settings: &AuditSettings,
+    ingest_settings: &IngestSettings,
+) -> Result<AuditDocument, IngestError> {
+    let outcome = ingest::read_sources(sources, ingest_settings)?;
+    Ok(audit_outcome(outcome, audit_settings, ingest_settings))
+}

@@ -1,0 +1,258 @@
+//! Flat per-run records: JSON lines, CSV and Parquet (SPEC §7: the same per-run
+//! fields, intervals as `_lo`/`_hi` columns).
+
+use std::io::{self, Write};
+
+use polars::prelude::*;
+use serde::Serialize;
+
+use crate::audit::{Finding, RunResult};
+
+/// The flat column names, in output order.
+pub const FLAT_COLUMNS: &[&str] = &[
+    "run",
+    "source",
+    "family",
+    "train_n",
+    "train_error_rate",
+    "holdout_n",
+    "holdout_error_rate",
+    "holdout_misclassified",
+    "holdout_set",
+    "candidates",
+    "delta",
+    "hoeffding_interval_lo",
+    "hoeffding_interval_hi",
+    "binomial_interval_lo",
+    "binomial_interval_hi",
+    "error_upper_bound",
+    "error_lower_bound",
+    "vc_dim",
+    "growth_ln",
+    "vc_allowance",
+    "vc_bound",
+    "observed_gap",
+    "certified_gap_max",
+    "claim_error_rate",
+    "verdict",
+    "holdout_needed",
+    "train_needed",
+    "findings",
+    "logged_at",
+];
+
+#[derive(Serialize)]
+struct FlatRun<'a> {
+    run: &'a str,
+    source: &'a str,
+    family: Option<&'a str>,
+    train_n: Option<u64>,
+    train_error_rate: Option<f64>,
+    holdout_n: u64,
+    holdout_error_rate: f64,
+    holdout_misclassified: u64,
+    holdout_set: Option<&'a str>,
+    candidates: u64,
+    delta: f64,
+    hoeffding_interval_lo: f64,
+    hoeffding_interval_hi: f64,
+    binomial_interval_lo: f64,
+    binomial_interval_hi: f64,
+    error_upper_bound: f64,
+    error_lower_bound: f64,
+    vc_dim: Option<u64>,
+    growth_ln: Option<f64>,
+    vc_allowance: Option<f64>,
+    vc_bound: Option<f64>,
+    observed_gap: Option<f64>,
+    certified_gap_max: Option<f64>,
+    claim_error_rate: Option<f64>,
+    verdict: &'static str,
+    holdout_needed: Option<u64>,
+    train_needed: Option<u64>,
+    findings: &'a [Finding],
+    logged_at: Option<&'a str>,
+}
+
+impl<'a> FlatRun<'a> {
+    fn of(r: &'a RunResult) -> FlatRun<'a> {
+        FlatRun {
+            run: &r.run,
+            source: &r.source,
+            family: r.family.as_deref(),
+            train_n: r.train_n,
+            train_error_rate: r.train_error_rate,
+            holdout_n: r.holdout_n,
+            holdout_error_rate: r.holdout_error_rate,
+            holdout_misclassified: r.holdout_misclassified,
+            holdout_set: r.holdout_set.as_deref(),
+            candidates: r.candidates,
+            delta: r.delta,
+            hoeffding_interval_lo: r.hoeffding_interval[0],
+            hoeffding_interval_hi: r.hoeffding_interval[1],
+            binomial_interval_lo: r.binomial_interval[0],
+            binomial_interval_hi: r.binomial_interval[1],
+            error_upper_bound: r.error_upper_bound,
+            error_lower_bound: r.error_lower_bound,
+            vc_dim: r.vc_dim,
+            growth_ln: r.growth_ln,
+            vc_allowance: r.vc_allowance,
+            vc_bound: r.vc_bound,
+            observed_gap: r.observed_gap,
+            certified_gap_max: r.certified_gap_max,
+            claim_error_rate: r.claim_error_rate,
+            verdict: r.verdict.as_str(),
+            holdout_needed: r.holdout_needed,
+            train_needed: r.train_needed,
+            findings: &r.findings,
+            logged_at: r.logged_at.as_deref(),
+        }
+    }
+}
+
+/// One JSON object per line per run.
+pub fn write_ndjson(runs: &[RunResult], out: &mut dyn Write) -> io::Result<()> {
+    for run in runs {
+        serde_json::to_writer(&mut *out, &FlatRun::of(run))?;
+        out.write_all(b"\n")?;
+    }
+    Ok(())
+}
+
+/// RFC 4180 CSV with a header. Text cells that a spreadsheet would run as a formula
+/// (leading `=`, `+`, `-`, `@`, tab or carriage return) are prefixed with `'`;
+/// numbers are written as numbers, never altered.
+pub fn write_csv(runs: &[RunResult], out: &mut dyn Write) -> io::Result<()> {
+    writeln!(out, "{}", FLAT_COLUMNS.join(","))?;
+    let mut line = String::with_capacity(512);
+    for r in runs {
+        line.clear();
+        let findings: Vec<&str> = r.findings.iter().map(|f| f.code.as_str()).collect();
+        let fields: [String; 29] = [
+            text_cell(&r.run),
+            text_cell(&r.source),
+            opt_text(r.family.as_deref()),
+            opt_num(r.train_n),
+            opt_num(r.train_error_rate),
+            r.holdout_n.to_string(),
+            r.holdout_error_rate.to_string(),
+            r.holdout_misclassified.to_string(),
+            opt_text(r.holdout_set.as_deref()),
+            r.candidates.to_string(),
+            r.delta.to_string(),
+            r.hoeffding_interval[0].to_string(),
+            r.hoeffding_interval[1].to_string(),
+            r.binomial_interval[0].to_string(),
+            r.binomial_interval[1].to_string(),
+            r.error_upper_bound.to_string(),
+            r.error_lower_bound.to_string(),
+            opt_num(r.vc_dim),
+            opt_num(r.growth_ln),
+            opt_num(r.vc_allowance),
+            opt_num(r.vc_bound),
+            opt_num(r.observed_gap),
+            opt_num(r.certified_gap_max),
+            opt_num(r.claim_error_rate),
+            r.verdict.as_str().to_string(),
+            opt_num(r.holdout_needed),
+            opt_num(r.train_needed),
+            text_cell(&findings.join(";")),
+            opt_text(r.logged_at.as_deref()),
+        ];
+        for (index, field) in fields.iter().enumerate() {
+            if index > 0 {
+                line.push(',');
+            }
+            line.push_str(field);
+        }
+        line.push('\n');
+        out.write_all(line.as_bytes())?;
+    }
+    Ok(())
+}
+
+fn opt_num<T: ToString>(value: Option<T>) -> String {
+    value.map(|v| v.to_string()).unwrap_or_default()
+}
+
+fn opt_text(value: Option<&str>) -> String {
+    value.map(text_cell).unwrap_or_default()
+}
+
+/// Quotes a text cell for CSV and neutralises spreadsheet formulas.
+pub fn text_cell(text: &str) -> String {
+    let guarded;
+    let text = if text.starts_with(['=', '+', '-', '@', '\t', '\r']) {
+        guarded = format!("'{text}");
+        guarded.as_str()
+    } else {
+        text
+    };
+    if text.contains([',', '"', '\n', '\r']) || text.starts_with('\'') {
+        format!("\"{}\"", text.replace('"', "\"\""))
+    } else {
+        text.to_string()
+    }
+}
+
+/// The runs as a polars DataFrame with the flat columns (for Parquet).
+pub fn runs_frame(runs: &[RunResult]) -> PolarsResult<DataFrame> {
+    let text = |name: &str, f: &dyn Fn(&RunResult) -> Option<String>| -> Column {
+        Series::new(name.into(), runs.iter().map(f).collect::<Vec<_>>()).into()
+    };
+    let float = |name: &str, f: &dyn Fn(&RunResult) -> Option<f64>| -> Column {
+        Series::new(name.into(), runs.iter().map(f).collect::<Vec<_>>()).into()
+    };
+    let count = |name: &str, f: &dyn Fn(&RunResult) -> Option<u64>| -> Column {
+        Series::new(name.into(), runs.iter().map(f).collect::<Vec<_>>()).into()
+    };
+    let columns = vec![
+        text("run", &|r| Some(r.run.clone())),
+        text("source", &|r| Some(r.source.clone())),
+        text("family", &|r| r.family.clone()),
+        count("train_n", &|r| r.train_n),
+        float("train_error_rate", &|r| r.train_error_rate),
+        count("holdout_n", &|r| Some(r.holdout_n)),
+        float("holdout_error_rate", &|r| Some(r.holdout_error_rate)),
+        count("holdout_misclassified", &|r| Some(r.holdout_misclassified)),
+        text("holdout_set", &|r| r.holdout_set.clone()),
+        count("candidates", &|r| Some(r.candidates)),
+        float("delta", &|r| Some(r.delta)),
+        float("hoeffding_interval_lo", &|r| Some(r.hoeffding_interval[0])),
+        float("hoeffding_interval_hi", &|r| Some(r.hoeffding_interval[1])),
+        float("binomial_interval_lo", &|r| Some(r.binomial_interval[0])),
+        float("binomial_interval_hi", &|r| Some(r.binomial_interval[1])),
+        float("error_upper_bound", &|r| Some(r.error_upper_bound)),
+        float("error_lower_bound", &|r| Some(r.error_lower_bound)),
+        count("vc_dim", &|r| r.vc_dim),
+        float("growth_ln", &|r| r.growth_ln),
+        float("vc_allowance", &|r| r.vc_allowance),
+        float("vc_bound", &|r| r.vc_bound),
+        float("observed_gap", &|r| r.observed_gap),
+        float("certified_gap_max", &|r| r.certified_gap_max),
+        float("claim_error_rate", &|r| r.claim_error_rate),
+        text("verdict", &|r| Some(r.verdict.as_str().to_string())),
+        count("holdout_needed", &|r| r.holdout_needed),
+        count("train_needed", &|r| r.train_needed),
+        text("findings", &|r| {
+            Some(
+                r.findings
+                    .iter()
+                    .map(|f| f.code.as_str())
+                    .collect::<Vec<_>>()
+                    .join(";"),
+            )
+        }),
+        text("logged_at", &|r| r.logged_at.clone()),
+    ];
+    DataFrame::new(runs.len(), columns)
+}
+
+/// Parquet, written through polars.
+pub fn write_parquet(runs: &[RunResult], out: &mut dyn Write) -> io::Result<()> {
+    let mut frame = runs_frame(runs).map_err(io::Error::other)?;
+    ParquetWriter::new(out)
+        .finish(&mut frame)
+        .map(|_| ())
+        .map_err(io::Error::other)
+}

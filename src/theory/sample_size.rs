@@ -1,0 +1,170 @@
+//! Held-out sample sizes needed to certify a claimed error rate.
+//!
+//! - Binomial: the smallest n at which a held-out set with the same observed
+//!   error rate would certify the claim with the exact (Clopper & Pearson
+//!   1934; Langford 2005, JMLR 6) upper bound: `upper_bound(k(n), n, α) ≤ c`
+//!   with k(n) = ⌈rate·n⌉ errors.
+//! - Hoeffding (Hoeffding 1963, JASA 58): `⌈ln(1/α) / (2(c − rate)²)⌉`, the
+//!   smallest n with `rate + sqrt(ln(1/α)/(2n)) ≤ c`.
+
+use super::binomial::{upper_bound, upper_bound_real};
+
+/// Errors counted at n held-out examples with the given error rate:
+/// ⌈rate·n⌉, where a product within 1e-9 (relative) of an integer is taken as
+/// that integer, so that 0.03·100 counts 3 errors, not 4, despite rounding.
+pub fn errors_at(rate: f64, n: u64) -> u64 {
+    let product = rate.max(0.0) * n as f64;
+    let nearest = product.round();
+    let k = if (product - nearest).abs() <= 1e-9 * nearest.max(1.0) {
+        nearest
+    } else {
+        product.ceil()
+    };
+    (k as u64).min(n)
+}
+
+/// Largest n' in [from, to] with errors_at(rate, n') == errors_at(rate, from),
+/// by bisection (errors_at is non-decreasing in n).
+fn last_n_with_same_errors(rate: f64, from: u64, to: u64) -> u64 {
+    let k = errors_at(rate, from);
+    let (mut same, mut more) = (from, to);
+    if errors_at(rate, to) == k {
+        return to;
+    }
+    while more - same > 1 {
+        let mid = same + (more - same) / 2;
+        if errors_at(rate, mid) == k {
+            same = mid;
+        } else {
+            more = mid;
+        }
+    }
+    same
+}
+
+/// Upper end of the search range; beyond it the function returns None.
+const SEARCH_LIMIT: u64 = 1 << 62;
+
+/// Smallest n with `upper_bound(errors_at(rate, n), n, alpha) ≤ claim_error`;
+/// None if rate ≥ claim_error (or no n below 2⁶² works).
+///
+/// The function n ↦ U(⌈rate·n⌉, n) is a sawtooth: it falls while k stays
+/// fixed and jumps up when k increases, so plain bisection on n is wrong.
+/// The search is exact:
+/// 1. Envelopes. With the continuous extension U(k, n) (real k), monotone in
+///    n at a fixed rate, ψ(n) = U(rate·n, n) ≤ U(⌈rate·n⌉, n) ≤
+///    U(rate·n + 1, n) = ψ⁺(n). Bisection gives n_lo, the smallest n with
+///    ψ(n) ≤ c (nothing below it can certify), and n_hi, the smallest n with
+///    ψ⁺(n) ≤ c (which certifies).
+/// 2. Between n_lo and n_hi, the integers are grouped by their k; within one
+///    group U decreases in n, so the group's last n decides whether the group
+///    contains a certifying n, and bisection inside the first such group gives
+///    the smallest one. The window spans O(√n) values of n, i.e. about
+///    rate·O(√n) groups.
+///
+/// rate = 0 has the closed form n = ⌈ln α / ln(1 − c)⌉ (k = 0 bound
+/// 1 − α^(1/n) ≤ c), checked against [`upper_bound`] at n and n − 1.
+pub fn holdout_needed_binomial(rate: f64, claim_error: f64, alpha: f64) -> Option<u64> {
+    if invalid(rate, claim_error, alpha) {
+        return None;
+    }
+    let rate = rate.max(0.0);
+    if claim_error >= 1.0 {
+        return Some(1);
+    }
+    let certifies = |n: u64| upper_bound(errors_at(rate, n), n, alpha) <= claim_error;
+    if rate == 0.0 {
+        let estimate = (alpha.ln() / (-claim_error).ln_1p()).ceil();
+        let mut n = if estimate.is_finite() && estimate >= 1.0 {
+            (estimate as u64).min(SEARCH_LIMIT)
+        } else {
+            1
+        };
+        while n > 1 && certifies(n - 1) {
+            n -= 1;
+        }
+        while !certifies(n) {
+            if n >= SEARCH_LIMIT {
+                return None;
+            }
+            n += 1;
+        }
+        return Some(n);
+    }
+    let envelope_low = |n: u64| upper_bound_real(rate * n as f64, n as f64, alpha) <= claim_error;
+    let envelope_high =
+        |n: u64| upper_bound_real(rate * n as f64 + 1.0, n as f64, alpha) <= claim_error;
+    let n_lo = smallest_passing(1, envelope_low)?;
+    let n_hi = smallest_passing(n_lo, envelope_high).unwrap_or(SEARCH_LIMIT);
+    let mut n = n_lo;
+    while n <= n_hi {
+        let group_end = last_n_with_same_errors(rate, n, n_hi);
+        if certifies(group_end) {
+            // U(k, ·) decreases on [n, group_end]: bisect for the first pass.
+            let (mut failing, mut passing) = (n, group_end);
+            if certifies(n) {
+                return Some(n);
+            }
+            while passing - failing > 1 {
+                let mid = failing + (passing - failing) / 2;
+                if certifies(mid) {
+                    passing = mid;
+                } else {
+                    failing = mid;
+                }
+            }
+            return Some(passing);
+        }
+        n = group_end + 1;
+    }
+    None
+}
+
+/// True when no sample size is defined: rate ≥ claim (nothing to certify),
+/// or an argument is NaN or alpha ≤ 0.
+fn invalid(rate: f64, claim_error: f64, alpha: f64) -> bool {
+    rate.is_nan() || claim_error.is_nan() || alpha.is_nan() || rate >= claim_error || alpha <= 0.0
+}
+
+/// Smallest n ≥ start with `passes(n)`, for a predicate that is monotone
+/// (false then true): exponential bracketing, then bisection.
+fn smallest_passing(start: u64, passes: impl Fn(u64) -> bool) -> Option<u64> {
+    if passes(start) {
+        return Some(start);
+    }
+    let mut failing = start;
+    let mut passing = start.max(1);
+    loop {
+        if passing >= SEARCH_LIMIT {
+            return None;
+        }
+        let next = passing.saturating_mul(2).min(SEARCH_LIMIT);
+        if passes(next) {
+            passing = next;
+            break;
+        }
+        failing = next;
+        passing = next;
+    }
+    while passing - failing > 1 {
+        let mid = failing + (passing - failing) / 2;
+        if passes(mid) {
+            passing = mid;
+        } else {
+            failing = mid;
+        }
+    }
+    Some(passing)
+}
+
+/// `⌈ln(1/alpha) / (2(claim_error − rate)²)⌉` (at least 1); None if
+/// rate ≥ claim_error.
+pub fn holdout_needed_hoeffding(rate: f64, claim_error: f64, alpha: f64) -> Option<u64> {
+    if invalid(rate, claim_error, alpha) {
+        return None;
+    }
+    let gap = claim_error - rate;
+    let n = ((1.0 / alpha).ln().max(0.0) / (2.0 * gap * gap)).ceil();
+    // `as` saturates at u64::MAX for huge or infinite n.
+    Some((n as u64).max(1))
+}

@@ -1,0 +1,654 @@
+//! End-to-end tests of `gapcert audit` / `gapcert demo` against an independent
+//! reference: `benches/reference_audit.py` (pandas + scipy, written separately from the
+//! Rust code) produced `fixtures/*/expected*.csv`, and `fixtures/worked/expected.json`
+//! was computed with mpmath at 40 digits (see fixtures/worked/README.md).
+
+mod common;
+
+use std::collections::{BTreeSet, HashMap};
+
+use common::{close, gapcert, gapcert_json, read_csv, root, stderr, stdout};
+use serde_json::Value;
+
+const NUMERIC_FIELDS: &[&str] = &[
+    "train_n",
+    "train_error_rate",
+    "holdout_n",
+    "holdout_error_rate",
+    "holdout_misclassified",
+    "delta",
+    "error_upper_bound",
+    "error_lower_bound",
+    "vc_dim",
+    "growth_ln",
+    "vc_allowance",
+    "vc_bound",
+    "observed_gap",
+    "certified_gap_max",
+    "claim_error_rate",
+    "holdout_needed",
+    "train_needed",
+];
+
+fn number(value: &Value) -> Option<f64> {
+    value.as_f64()
+}
+
+/// Compares gapcert's JSON runs with a reference CSV written by the pandas + scipy
+/// script, field by field, at `tolerance`.
+fn assert_matches_reference(runs: &[Value], expected_csv: &str, tolerance: f64) {
+    let expected = read_csv(&root().join(expected_csv));
+    assert_eq!(runs.len(), expected.len(), "run count vs {expected_csv}");
+    let by_run: HashMap<&str, &Value> = runs
+        .iter()
+        .map(|r| (r["run"].as_str().unwrap(), r))
+        .collect();
+    let mut failures = Vec::new();
+    for row in &expected {
+        let name = row["run"].as_str();
+        let Some(run) = by_run.get(name) else {
+            failures.push(format!("{name}: missing from gapcert's output"));
+            continue;
+        };
+        for &field in NUMERIC_FIELDS {
+            let want = row[field].trim();
+            let got = &run[field];
+            match (want.is_empty(), got.is_null()) {
+                (true, true) => {}
+                (true, false) => failures.push(format!("{name}.{field}: expected null, got {got}")),
+                (false, true) => {
+                    failures.push(format!("{name}.{field}: expected {want}, got null"))
+                }
+                (false, false) => {
+                    let want: f64 = want.parse().unwrap();
+                    let got = number(got).unwrap();
+                    if !close(got, want, tolerance) {
+                        failures.push(format!("{name}.{field}: expected {want}, got {got}"));
+                    }
+                }
+            }
+        }
+        for (field, index, column) in [
+            ("hoeffding_interval", 0, "hoeffding_interval_lo"),
+            ("hoeffding_interval", 1, "hoeffding_interval_hi"),
+            ("binomial_interval", 0, "binomial_interval_lo"),
+            ("binomial_interval", 1, "binomial_interval_hi"),
+        ] {
+            let want: f64 = row[column].parse().unwrap();
+            let got = run[field][index].as_f64().unwrap();
+            if !close(got, want, tolerance) {
+                failures.push(format!("{name}.{column}: expected {want}, got {got}"));
+            }
+        }
+        // K: gapcert reports the number of models compared (after grouping) as
+        // `candidates`; the reference calls it selection_k.
+        let k: u64 = row["selection_k"].parse().unwrap();
+        if run["candidates"].as_u64() != Some(k) {
+            failures.push(format!(
+                "{name}.candidates: expected K = {k}, got {}",
+                run["candidates"]
+            ));
+        }
+        if run["verdict"].as_str() != Some(row["verdict"].as_str()) {
+            failures.push(format!(
+                "{name}.verdict: expected {}, got {}",
+                row["verdict"], run["verdict"]
+            ));
+        }
+        let want_findings: BTreeSet<&str> = row["findings"]
+            .split(';')
+            .filter(|s| !s.is_empty())
+            .collect();
+        let got_findings: BTreeSet<&str> = run["findings"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .map(|f| f["code"].as_str().unwrap())
+            .collect();
+        if want_findings != got_findings {
+            failures.push(format!(
+                "{name}.findings: expected {want_findings:?}, got {got_findings:?}"
+            ));
+        }
+        if run["holdout_set"].as_str().unwrap_or("") != row["holdout_set"] {
+            failures.push(format!("{name}.holdout_set differs"));
+        }
+    }
+    assert!(
+        failures.is_empty(),
+        "{} mismatch(es) against {expected_csv}:\n{}",
+        failures.len(),
+        failures.join("\n")
+    );
+}
+
+fn runs_of(doc: &Value) -> Vec<Value> {
+    doc["runs"].as_array().expect("runs array").clone()
+}
+
+#[test]
+fn demo_matches_independent_reference() {
+    let (code, doc) = gapcert_json(&["demo", "--format", "json"]);
+    assert_eq!(
+        code, 1,
+        "the demo has unproven and refuted claims, so the default gate fails"
+    );
+    assert_matches_reference(&runs_of(&doc), "fixtures/demo/expected.csv", 1e-9);
+}
+
+#[test]
+fn demo_file_audit_matches_reference_under_each_setting() {
+    for (flags, expected) in [
+        (vec![], "fixtures/demo/expected.csv"),
+        (
+            vec!["--holdout-bound", "hoeffding"],
+            "fixtures/demo/expected_hoeffding.csv",
+        ),
+        (
+            vec!["--familywise"],
+            "fixtures/demo/expected_familywise.csv",
+        ),
+        (
+            vec!["--same-holdout"],
+            "fixtures/demo/expected_same_holdout.csv",
+        ),
+    ] {
+        let mut args = vec!["audit", "fixtures/demo/runs.csv", "--format", "json"];
+        args.extend(flags.iter());
+        let (_, doc) = gapcert_json(&args);
+        assert_matches_reference(&runs_of(&doc), expected, 1e-9);
+    }
+}
+
+#[test]
+fn every_format_gives_the_same_runs() {
+    let strip = |doc: &Value| -> Vec<Value> {
+        runs_of(doc)
+            .into_iter()
+            .map(|mut r| {
+                r.as_object_mut().unwrap().remove("source");
+                r
+            })
+            .collect()
+    };
+    let (_, base) = gapcert_json(&["audit", "fixtures/demo/runs.csv", "--format", "json"]);
+    let base = strip(&base);
+    for file in [
+        "runs.tsv",
+        "runs.parquet",
+        "runs.jsonl",
+        "runs.json",
+        "runs.arrow",
+    ] {
+        let path = format!("fixtures/formats/{file}");
+        let (_, doc) = gapcert_json(&["audit", &path, "--format", "json"]);
+        assert_eq!(strip(&doc), base, "{file} differs from the CSV audit");
+    }
+}
+
+#[test]
+fn worked_example_matches_mpmath_values() {
+    // fixtures/worked/expected.json: mpmath at 40 digits (see its README for the
+    // formulae with the numbers substituted by hand).
+    let expected: Value = serde_json::from_str(
+        &std::fs::read_to_string(root().join("fixtures/worked/expected.json")).unwrap(),
+    )
+    .unwrap();
+    let (_, doc) = gapcert_json(&["audit", "fixtures/worked/runs.csv", "--format", "json"]);
+    let runs = runs_of(&doc);
+    for want in expected["runs"].as_array().unwrap() {
+        let name = want["run"].as_str().unwrap();
+        let got = runs.iter().find(|r| r["run"] == want["run"]).expect(name);
+        for &field in NUMERIC_FIELDS {
+            match (&want[field], &got[field]) {
+                (Value::Null, Value::Null) => {}
+                (w, g) => {
+                    let (w, g) = (
+                        w.as_f64().unwrap_or(f64::NAN),
+                        g.as_f64().unwrap_or(f64::NAN),
+                    );
+                    assert!(close(g, w, 1e-9), "{name}.{field}: mpmath {w}, gapcert {g}");
+                }
+            }
+        }
+        for field in ["hoeffding_interval", "binomial_interval"] {
+            for i in 0..2 {
+                let (w, g) = (
+                    want[field][i].as_f64().unwrap(),
+                    got[field][i].as_f64().unwrap(),
+                );
+                assert!(
+                    close(g, w, 1e-9),
+                    "{name}.{field}[{i}]: mpmath {w}, gapcert {g}"
+                );
+            }
+        }
+        assert_eq!(got["verdict"], want["verdict"], "{name}.verdict");
+    }
+}
+
+#[test]
+fn json_document_has_the_specified_fields() {
+    let (_, doc) = gapcert_json(&["demo", "--format", "json"]);
+    for key in [
+        "tool",
+        "generated_at",
+        "settings",
+        "inputs",
+        "runs",
+        "summary",
+    ] {
+        assert!(doc.get(key).is_some(), "top-level {key}");
+    }
+    for key in [
+        "confidence",
+        "holdout_bound",
+        "familywise",
+        "tolerance",
+        "max_width",
+        "gate",
+    ] {
+        assert!(doc["settings"].get(key).is_some(), "settings.{key}");
+    }
+    for key in ["path", "sha256", "rows"] {
+        assert!(doc["inputs"][0].get(key).is_some(), "inputs[].{key}");
+    }
+    let spec_fields = [
+        "run",
+        "source",
+        "family",
+        "train_n",
+        "train_error_rate",
+        "holdout_n",
+        "holdout_error_rate",
+        "holdout_misclassified",
+        "holdout_set",
+        "candidates",
+        "delta",
+        "hoeffding_interval",
+        "binomial_interval",
+        "error_upper_bound",
+        "error_lower_bound",
+        "vc_dim",
+        "growth_ln",
+        "vc_allowance",
+        "vc_bound",
+        "observed_gap",
+        "certified_gap_max",
+        "claim_error_rate",
+        "verdict",
+        "holdout_needed",
+        "train_needed",
+        "findings",
+    ];
+    for run in doc["runs"].as_array().unwrap() {
+        for field in spec_fields {
+            assert!(run.get(field).is_some(), "runs[].{field} missing");
+        }
+    }
+    for key in [
+        "runs",
+        "certified",
+        "unproven",
+        "refuted",
+        "no_claim",
+        "gate",
+    ] {
+        assert!(doc["summary"].get(key).is_some(), "summary.{key}");
+    }
+    chrono::DateTime::parse_from_rfc3339(doc["generated_at"].as_str().unwrap()).expect("RFC 3339");
+}
+
+#[test]
+fn demo_tells_its_story() {
+    // The demo scenario (fixtures/demo/README.md) promises these verdicts.
+    let (_, doc) = gapcert_json(&["demo", "--format", "json"]);
+    let s = &doc["summary"];
+    assert_eq!(s["refuted"], 1, "exactly one over-claim is refuted");
+    assert!(s["certified"].as_u64().unwrap() >= 2);
+    assert!(s["unproven"].as_u64().unwrap() >= 1);
+    assert!(s["no_claim"].as_u64().unwrap() >= 1);
+    let runs = runs_of(&doc);
+    let has = |code: &str| {
+        runs.iter().any(|r| {
+            r["findings"]
+                .as_array()
+                .unwrap()
+                .iter()
+                .any(|f| f["code"] == code)
+        })
+    };
+    assert!(has("gap_beyond_theory"));
+    assert!(has("theory_unavailable"));
+    assert!(has("holdout_reused"));
+    let splits: BTreeSet<&str> = runs
+        .iter()
+        .filter_map(|r| r["holdout_set"].as_str())
+        .collect();
+    assert!(splits.len() >= 2);
+}
+
+#[test]
+fn gates_set_the_exit_code() {
+    assert_eq!(
+        gapcert(&["demo", "--gate", "never", "--format", "json"])
+            .status
+            .code(),
+        Some(0)
+    );
+    assert_eq!(
+        gapcert(&["demo", "--gate", "refuted", "--format", "json"])
+            .status
+            .code(),
+        Some(1)
+    );
+    assert_eq!(
+        gapcert(&["demo", "--gate", "unproven", "--format", "json"])
+            .status
+            .code(),
+        Some(1)
+    );
+    // A log whose only claim is certified passes the default gate.
+    let dir = tempfile::tempdir().unwrap();
+    let log = dir.path().join("ok.csv");
+    std::fs::write(
+        &log,
+        "run,holdout_n,holdout_misclassified,claimed_accuracy\nonly,20000,100,0.99\n",
+    )
+    .unwrap();
+    let output = gapcert(&["audit", log.to_str().unwrap()]);
+    assert_eq!(output.status.code(), Some(0), "{}", stderr(&output));
+    // Refuted: 30% observed error against a 1% claim.
+    std::fs::write(
+        &log,
+        "run,holdout_n,holdout_misclassified,claimed_accuracy\nbad,1000,300,0.99\n",
+    )
+    .unwrap();
+    assert_eq!(
+        gapcert(&["audit", log.to_str().unwrap(), "--gate", "refuted"])
+            .status
+            .code(),
+        Some(1)
+    );
+}
+
+/// (file, [(row, column)]) for each bad fixture: every listed problem must be named.
+const BAD_CASES: &[(&str, &[(usize, &str)])] = &[
+    ("rate_above_one.csv", &[(3, "holdout_error_rate")]),
+    (
+        "nan_inf.csv",
+        &[(1, "holdout_error_rate"), (4, "train_error_rate")],
+    ),
+    ("non_numeric_n.csv", &[(2, "holdout_n")]),
+    (
+        "zero_negative_counts.csv",
+        &[(1, "holdout_n"), (3, "train_n"), (4, "candidates")],
+    ),
+    ("misclassified_gt_n.csv", &[(2, "holdout_misclassified")]),
+    ("accuracy_rate_conflict.csv", &[(1, "holdout_accuracy")]),
+    ("linear_without_dim.csv", &[(2, "dim")]),
+    (
+        "several_bad_rows.csv",
+        &[
+            (1, "holdout_error_rate"),
+            (2, "dim"),
+            (3, "holdout_misclassified"),
+            (4, "holdout_n"),
+        ],
+    ),
+    ("truncated.jsonl", &[(4, "")]),
+];
+
+#[test]
+fn bad_rows_are_all_reported_with_file_row_and_column() {
+    let dir = tempfile::tempdir().unwrap();
+    for (file, problems) in BAD_CASES {
+        let path = format!("fixtures/bad/{file}");
+        let out = dir.path().join(format!("{file}.json"));
+        let output = gapcert(&[
+            "audit",
+            &path,
+            "--format",
+            "json",
+            "--output",
+            out.to_str().unwrap(),
+        ]);
+        let err = stderr(&output);
+        assert_eq!(
+            output.status.code(),
+            Some(2),
+            "{file}: exit code; stderr:\n{err}"
+        );
+        assert!(
+            !out.exists(),
+            "{file}: an output file was written despite bad input"
+        );
+        for (row, column) in *problems {
+            let prefix = format!("{path}:{row}:");
+            let line = err
+                .lines()
+                .find(|l| l.contains(&prefix))
+                .unwrap_or_else(|| {
+                    panic!("{file}: no problem reported for row {row}; stderr:\n{err}")
+                });
+            assert!(
+                line.contains(column),
+                "{file}:{row}: column {column} not named in {line:?}"
+            );
+        }
+        assert!(!err.contains("panicked"), "{file}: panic");
+    }
+}
+
+#[test]
+fn broken_files_are_reported() {
+    for (file, words) in [
+        ("missing_holdout_n.csv", "holdout_n"),
+        ("no_holdout_error.csv", "held-out error"),
+        ("truncated_array.json", "invalid JSON"),
+        ("garbage.parquet", "Parquet"),
+        ("empty.csv", "empty"),
+        ("header_only.csv", "no runs"),
+    ] {
+        let path = format!("fixtures/bad/{file}");
+        let output = gapcert(&["audit", &path]);
+        let err = stderr(&output);
+        assert_eq!(output.status.code(), Some(2), "{file}: {err}");
+        assert!(err.contains(&path) && err.contains(words), "{file}: {err}");
+        assert!(!err.contains("panicked"), "{file}: panic");
+    }
+}
+
+#[test]
+fn problems_in_several_files_are_reported_together() {
+    let output = gapcert(&[
+        "audit",
+        "fixtures/bad/rate_above_one.csv",
+        "fixtures/bad/non_numeric_n.csv",
+    ]);
+    let err = stderr(&output);
+    assert_eq!(output.status.code(), Some(2));
+    assert!(
+        err.contains("rate_above_one.csv:3:") && err.contains("non_numeric_n.csv:2:"),
+        "{err}"
+    );
+}
+
+#[test]
+fn lenient_skips_bad_rows_and_lists_them() {
+    // All four rows are bad, so nothing is left to audit: that is still an input error.
+    let output = gapcert(&[
+        "audit",
+        "fixtures/bad/several_bad_rows.csv",
+        "--lenient",
+        "--format",
+        "json",
+        "--gate",
+        "never",
+    ]);
+    assert_eq!(output.status.code(), Some(2));
+    assert!(stdout(&output).is_empty());
+    let (code, doc) = gapcert_json(&[
+        "audit",
+        "fixtures/bad/zero_negative_counts.csv",
+        "--lenient",
+        "--format",
+        "json",
+        "--gate",
+        "never",
+    ]);
+    assert_eq!(code, 0);
+    assert_eq!(doc["summary"]["rows_skipped"], 3);
+    assert_eq!(doc["summary"]["runs"], 1);
+    assert_eq!(doc["summary"]["rows_read"], 4, "read = audited + skipped");
+    let skipped: Vec<&str> = doc["skipped_rows"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|s| s["source"].as_str().unwrap())
+        .collect();
+    assert_eq!(
+        skipped,
+        [
+            "fixtures/bad/zero_negative_counts.csv:1",
+            "fixtures/bad/zero_negative_counts.csv:3",
+            "fixtures/bad/zero_negative_counts.csv:4"
+        ]
+    );
+}
+
+#[test]
+fn urls_are_not_fetched_but_rejected_as_missing_files() {
+    for url in [
+        "s3://bucket/runs.csv",
+        "https://example.com/runs.csv",
+        "gs://b/x.parquet",
+    ] {
+        let output = gapcert(&["audit", url]);
+        let err = stderr(&output);
+        assert_eq!(output.status.code(), Some(2), "{url}");
+        assert!(
+            err.contains(url) && err.contains("local files"),
+            "{url}: {err}"
+        );
+    }
+}
+
+#[test]
+fn unknown_explicit_file_type_is_an_error_but_skipped_in_folders() {
+    let output = gapcert(&["audit", "fixtures/edge/mixed/README.txt"]);
+    assert_eq!(output.status.code(), Some(2));
+    assert!(stderr(&output).contains("unknown log type"));
+    let (_, doc) = gapcert_json(&["audit", "fixtures/edge/mixed", "--format", "json"]);
+    assert_eq!(doc["summary"]["files_skipped"], 1);
+    assert_matches_reference(&runs_of(&doc), "fixtures/edge/expected_mixed.csv", 1e-9);
+}
+
+#[test]
+fn awkward_but_valid_files_read_like_plain_ones() {
+    for args in [
+        vec!["audit", "fixtures/edge/bom_crlf.csv"],
+        vec!["audit", "fixtures/edge/mixed_case.csv"],
+        vec![
+            "audit",
+            "fixtures/edge/renamed.csv",
+            "--map-file",
+            "fixtures/edge/map.json",
+        ],
+        vec![
+            "audit",
+            "fixtures/edge/renamed.csv",
+            "--map",
+            "holdout_error_rate=val_err",
+            "--map",
+            "holdout_n=n_val",
+        ],
+        vec!["audit", "fixtures/edge/percent.csv", "--percent"],
+    ] {
+        let mut args = args.clone();
+        args.extend(["--format", "json"]);
+        let (code, doc) = gapcert_json(&args);
+        assert!(code == 0 || code == 1, "{args:?}");
+        assert_matches_reference(&runs_of(&doc), "fixtures/edge/expected.csv", 1e-9);
+    }
+}
+
+#[test]
+fn percent_scale_without_flag_is_an_error_with_a_hint() {
+    let output = gapcert(&["audit", "fixtures/edge/percent.csv"]);
+    assert_eq!(output.status.code(), Some(2));
+    assert!(stderr(&output).contains("--percent"));
+}
+
+#[test]
+fn output_goes_to_a_file_atomically_and_not_into_a_missing_folder() {
+    let dir = tempfile::tempdir().unwrap();
+    let out = dir.path().join("report.json");
+    let output = gapcert(&[
+        "demo",
+        "--format",
+        "json",
+        "--output",
+        out.to_str().unwrap(),
+    ]);
+    assert_eq!(output.status.code(), Some(1));
+    assert!(stdout(&output).is_empty());
+    let doc: Value = serde_json::from_str(&std::fs::read_to_string(&out).unwrap()).unwrap();
+    assert!(doc["runs"].as_array().unwrap().len() > 5);
+    let leftovers: Vec<_> = std::fs::read_dir(dir.path())
+        .unwrap()
+        .filter_map(|e| e.ok())
+        .filter(|e| e.file_name().to_string_lossy().ends_with(".tmp"))
+        .collect();
+    assert!(leftovers.is_empty(), "temporary files left behind");
+    let nowhere = dir.path().join("no/such/folder/report.json");
+    let output = gapcert(&[
+        "demo",
+        "--format",
+        "json",
+        "--output",
+        nowhere.to_str().unwrap(),
+    ]);
+    assert_eq!(output.status.code(), Some(2));
+    assert!(stderr(&output).contains("cannot write"));
+}
+
+#[test]
+fn every_report_format_renders_the_demo() {
+    let dir = tempfile::tempdir().unwrap();
+    for format in ["table", "json", "ndjson", "csv", "parquet", "markdown"] {
+        let out = dir.path().join(format!("demo.{format}"));
+        let output = gapcert(&[
+            "demo",
+            "--format",
+            format,
+            "--output",
+            out.to_str().unwrap(),
+        ]);
+        assert_eq!(
+            output.status.code(),
+            Some(1),
+            "{format}: {}",
+            stderr(&output)
+        );
+        let bytes = std::fs::read(&out).unwrap();
+        assert!(bytes.len() > 200, "{format}: {} bytes", bytes.len());
+    }
+    let ndjson = std::fs::read_to_string(dir.path().join("demo.ndjson")).unwrap();
+    let first: Value = serde_json::from_str(ndjson.lines().next().unwrap()).unwrap();
+    assert!(
+        first.get("binomial_interval_lo").is_some() && first.get("binomial_interval_hi").is_some()
+    );
+    let csv = read_csv(&dir.path().join("demo.csv"));
+    assert_eq!(csv.len(), 20);
+    let table = std::fs::read_to_string(dir.path().join("demo.table")).unwrap();
+    assert!(
+        table.contains("refuted") && table.contains("i.i.d."),
+        "table shows verdicts and cautions"
+    );
+    let markdown = std::fs::read_to_string(dir.path().join("demo.markdown")).unwrap();
+    assert!(markdown.contains("| verdict |") && markdown.contains("i.i.d."));
+    // Worst first: the refuted run heads the table.
+    let first_row = table.lines().find(|l| l.contains("kw-")).unwrap();
+    assert!(first_row.contains("refuted"), "{first_row}");
+}
