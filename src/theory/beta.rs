@@ -167,7 +167,7 @@ fn ln_smaller_tail(a: f64, b: f64, x: f64, y: f64, ln_x: f64, ln_y: f64) -> Smal
         let f = a0 * rlog1(-lambda / a0) + b0 * rlog1(lambda / b0);
         let correction = stirling_correction_difference(a0, b0);
         let ln_prefactor = -LN_SQRT_2PI + 0.5 * (a0 * b0 / (a0 + b0)).ln() - f - correction;
-        let ln_w = ln_asymptotic(a0, b0, lambda, 1e-12, f, correction);
+        let ln_w = ln_asymptotic(a0, b0, lambda, 100.0 * eps, f, correction);
         return SmallerTail {
             ln_tail: ln_w.min(0.0),
             is_upper: swapped,
