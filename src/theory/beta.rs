@@ -117,7 +117,9 @@ fn ln_tail_at(a: f64, b: f64, x: f64, y: f64, ln_x: f64, ln_y: f64, upper: bool)
     (ln_tail, smaller.ln_prefactor)
 }
 
+pub static EVALS: std::sync::atomic::AtomicUsize = std::sync::atomic::AtomicUsize::new(0);
 fn ln_smaller_tail(a: f64, b: f64, x: f64, y: f64, ln_x: f64, ln_y: f64) -> SmallerTail {
+    EVALS.fetch_add(1, std::sync::atomic::Ordering::Relaxed);
     let eps = f64::EPSILON.max(1e-15);
     if a == 1.0 {
         // I_x(1, b) = 1 − yᵇ: the upper tail yᵇ is exact.
@@ -370,6 +372,16 @@ fn ln_asymptotic(a: f64, b: f64, lambda: f64, eps: f64, f: f64, correction: f64)
     const E0: f64 = std::f64::consts::FRAC_2_SQRT_PI;
     const E1: f64 = 0.353_553_390_593_274; // 2^(−3/2)
     const LN_E0: f64 = 0.120_782_237_635_245;
+    // RECIPROCAL[m] = 1/m for m = 1..=NUM + 2 (entry 0 unused).
+    const RECIPROCAL: [f64; NUM + 3] = {
+        let mut table = [0.0; NUM + 3];
+        let mut m = 1;
+        while m < NUM + 3 {
+            table[m] = 1.0 / m as f64;
+            m += 1;
+        }
+        table
+    };
     debug_assert!(lambda >= 0.0);
     let z0 = f.sqrt();
     let z = z0 / E1 * 0.5;
@@ -418,25 +430,22 @@ fn ln_asymptotic(a: f64, b: f64, lambda: f64, eps: f64, f: f64, correction: f64)
             let r = (i as f64 + 1.0) * -0.5;
             b_coef[0] = r * a_coef[0];
             for m in 2..=i {
-                // Σ_{j=1}^{m−1} (j·r − (m − j))·a_{j−1}·b_{m−j−1}, with two
-                // accumulators: this sum is the hot loop of the expansion and
-                // is bound by the latency of the additions.
+                // Σ_{j=1}^{m−1} (j·r − (m − j))·a_{j−1}·b_{m−j−1}, the hot loop of
+                // the expansion. It stays a single scalar chain on purpose: the
+                // b_{m−2} just stored would otherwise be reloaded by a 16-byte
+                // vector load spanning two 8-byte stores, which defeats store
+                // forwarding and stalls every step. The division by m is a
+                // table lookup for the same reason (it sits in this chain).
                 let mf = m as f64;
-                let (mut even, mut odd) = (0.0, 0.0);
-                let mut j = 1;
-                while j + 1 < m {
-                    let jf = j as f64;
-                    even += (jf * r - (mf - jf)) * a_coef[j - 1] * b_coef[m - j - 1];
-                    odd += ((jf + 1.0) * r - (mf - jf - 1.0)) * a_coef[j] * b_coef[m - j - 2];
-                    j += 2;
+                let mut bsum = 0.0;
+                let mut jf = 1.0;
+                for (a_j, b_mj) in a_coef[..m - 1].iter().zip(b_coef[..m - 1].iter().rev()) {
+                    bsum += (jf * r - (mf - jf)) * a_j * b_mj;
+                    jf += 1.0;
                 }
-                if j < m {
-                    let jf = j as f64;
-                    even += (jf * r - (mf - jf)) * a_coef[j - 1] * b_coef[m - j - 1];
-                }
-                b_coef[m - 1] = r * a_coef[m - 1] + (even + odd) / mf;
+                b_coef[m - 1] = r * a_coef[m - 1] + bsum * RECIPROCAL[m];
             }
-            c_coef[i - 1] = b_coef[i - 1] / (i as f64 + 1.0);
+            c_coef[i - 1] = b_coef[i - 1] * RECIPROCAL[i + 1];
             let mut dsum = 0.0;
             for j in 1..i {
                 dsum += d_coef[i - j - 1] * c_coef[j - 1];
@@ -453,6 +462,9 @@ fn ln_asymptotic(a: f64, b: f64, lambda: f64, eps: f64, f: f64, correction: f64)
         let t1 = d_coef[np1 - 1] * w * j1;
         sum += t0 + t1;
         if t0.abs() + t1.abs() <= eps * sum {
+            if std::env::var("DBG").is_ok() {
+                eprintln!("basym a={a} b={b} n={n} t0={t0:e} t1={t1:e} sum={sum}");
+            }
             break;
         }
         n += 2;
