@@ -209,7 +209,9 @@ pub fn run_audit(
     if let Some(path) = &options.html {
         write_file(path, |out| report::html::write_html(&doc, out))?;
     }
+    let started = std::time::Instant::now();
     emit_report(&doc, format, options.output.as_deref(), terminal)?;
+    crate::timing("write", started);
     Ok(match doc.summary.gate {
         GateResult::Pass => Outcome::Pass,
         GateResult::Fail => Outcome::Fail,

@@ -203,10 +203,13 @@ fn read_one(source: &LogSource, settings: &IngestSettings) -> FileResult {
         LogSource::Memory(_, bytes, format) => (bytes, *format),
     };
     // Hash while polars parses: both walk the whole file.
+    let started = std::time::Instant::now();
     let (sha256, table) = rayon::join(
         || hex(&Sha256::digest(bytes)),
         || formats::read_table(&label, bytes, format),
     );
+    crate::timing("  parse + hash", started);
+    let started = std::time::Instant::now();
     let mut input = InputFile {
         path: label.clone(),
         size: bytes.len() as u64,
@@ -231,6 +234,7 @@ fn read_one(source: &LogSource, settings: &IngestSettings) -> FileResult {
         file_problems.push(Problem::file(&label, "the file has a header but no runs"));
     }
     let table = rows::table_runs(&label, &df, settings, cell_problems);
+    crate::timing("  validate", started);
     file_problems.extend(table.file_problems);
     FileResult {
         label,

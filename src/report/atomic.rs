@@ -12,6 +12,15 @@ pub fn write_atomically<F>(path: &Path, write: F) -> io::Result<()>
 where
     F: FnOnce(&mut dyn Write) -> io::Result<()>,
 {
+    // A device, pipe or other special file (`/dev/stdout`, a FIFO) cannot be replaced
+    // by renaming; write straight into it.
+    if let Ok(metadata) = fs::metadata(path) {
+        if !metadata.is_file() && !metadata.is_dir() {
+            let mut file = fs::OpenOptions::new().write(true).open(path)?;
+            write(&mut file)?;
+            return file.flush();
+        }
+    }
     let folder = match path.parent() {
         Some(parent) if !parent.as_os_str().is_empty() => parent.to_path_buf(),
         _ => PathBuf::from("."),
