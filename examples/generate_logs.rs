@@ -5,7 +5,8 @@
 //! cargo run --release --example generate_logs -- --rows 10000000 --output bench-data/runs.parquet
 //! ```
 //!
-//! A realistic mix: nine model families with plausible parameters, training sizes and
+//! A realistic mix: nine model families with parameters drawn from a menu of
+//! architectures (sweeps reuse a few hundred distinct families, not one per run), training sizes and
 //! held-out sizes log-uniform in 10²..10⁷, held-out errors logged as counts, rates or
 //! accuracies, runs grouped on shared held-out splits (a sweep of 1–40 runs per split),
 //! and claims near (sometimes above) the observed accuracy. Deterministic per seed.
@@ -93,21 +94,25 @@ fn generate(rows: usize, seed: u64, offset: usize) -> Columns {
             9 => Some("gradient_boosting"),
             _ => None,
         };
+        // Sweeps reuse a modest menu of architectures, as real experiment folders do.
+        let pick = |rng: &mut SplitMix64, menu: &[i64]| menu[rng.below(menu.len() as u64) as usize];
         match family {
-            Some("linear") => params[0] = Some(1 + rng.below(2000) as i64),
-            Some("box") => params[0] = Some(1 + rng.below(50) as i64),
-            Some("vc") => params[1] = Some(1 + rng.below(100_000) as i64),
-            Some("finite") => params[2] = Some(2 + rng.below(1 << 20) as i64),
+            Some("linear") => {
+                params[0] = Some(pick(&mut rng, &[8, 16, 32, 64, 128, 256, 512, 1024, 2048]))
+            }
+            Some("box") => params[0] = Some(pick(&mut rng, &[2, 3, 4, 6, 8, 12, 16])),
+            Some("vc") => params[1] = Some(pick(&mut rng, &[10, 30, 100, 300, 1000, 3000, 10_000])),
+            Some("finite") => params[2] = Some(pick(&mut rng, &[64, 1024, 4096, 65_536, 1 << 20])),
             Some("relu_net") | Some("threshold_net") => {
-                params[4] = Some(2 + rng.below(8) as i64);
-                params[5] = Some(3 + rng.below(500) as i64);
-                params[3] = Some(params[5].unwrap() * (10 + rng.below(200) as i64));
+                params[4] = Some(pick(&mut rng, &[2, 3, 4, 6, 8]));
+                params[5] = Some(pick(&mut rng, &[16, 64, 128, 256, 512]));
+                params[3] = Some(params[5].unwrap() * pick(&mut rng, &[16, 64, 128]));
             }
             Some("tree") => {
-                params[6] = Some(2 + rng.below(256) as i64);
-                params[7] = Some(1 + rng.below(500) as i64);
+                params[6] = Some(pick(&mut rng, &[4, 8, 16, 32, 64, 128, 256]));
+                params[7] = Some(pick(&mut rng, &[10, 50, 100, 500]));
             }
-            Some("stump") => params[7] = Some(1 + rng.below(500) as i64),
+            Some("stump") => params[7] = Some(pick(&mut rng, &[10, 50, 100, 500])),
             _ => {}
         }
         c.family.push(family);

@@ -2,7 +2,10 @@
 //! count columns, range and consistency checks, family resolution.
 
 use chrono::{DateTime, NaiveDate, NaiveDateTime, Utc};
+use std::collections::HashMap;
+
 use polars::prelude::DataFrame;
+use rayon::prelude::*;
 
 use super::columns::{bind_columns, column_name, extract_f64, extract_i64, extract_text};
 use super::problem::Problem;
@@ -75,56 +78,50 @@ pub fn table_runs(
         };
     }
 
-    let problems = &mut cell_problems;
-    let float = |name: &str, problems: &mut Vec<Problem>| -> Vec<Option<f64>> {
-        match binding.index.get(name) {
-            Some(&index) => extract_f64(label, df, index, problems),
-            None => vec![None; height],
-        }
+    // Extract every canonical column (in parallel: each is an independent pass).
+    let specs: Vec<(&'static str, CellKind)> = super::columns::CANONICAL_COLUMNS
+        .iter()
+        .map(|&name| (name, cell_kind(name)))
+        .collect();
+    let extracted: Vec<(ColumnCells, Vec<Problem>)> = specs
+        .par_iter()
+        .map(|&(name, kind)| {
+            let mut problems = Vec::new();
+            let cells = match (binding.index.get(name), kind) {
+                (None, _) => ColumnCells::Absent,
+                (Some(&index), CellKind::Float) => {
+                    ColumnCells::Float(extract_f64(label, df, index, &mut problems))
+                }
+                (Some(&index), CellKind::Integer) => {
+                    ColumnCells::Integer(extract_i64(label, df, index, &mut problems))
+                }
+                (Some(&index), CellKind::Text) => ColumnCells::Text(extract_text(df, index)),
+            };
+            (cells, problems)
+        })
+        .collect();
+    let mut columns: Vec<ColumnCells> = Vec::with_capacity(extracted.len());
+    for (cells, mut problems) in extracted {
+        cell_problems.append(&mut problems);
+        columns.push(cells);
+    }
+    let names: HashMap<&'static str, String> = super::columns::CANONICAL_COLUMNS
+        .iter()
+        .map(|&canonical| {
+            let name = binding
+                .index
+                .get(canonical)
+                .map(|&index| column_name(df, index))
+                .unwrap_or_else(|| canonical.to_string());
+            (canonical, name)
+        })
+        .collect();
+    let table = Extracted {
+        label,
+        settings,
+        columns,
+        names,
     };
-    let integer = |name: &str, problems: &mut Vec<Problem>| -> Vec<Option<i64>> {
-        match binding.index.get(name) {
-            Some(&index) => extract_i64(label, df, index, problems),
-            None => vec![None; height],
-        }
-    };
-    let text = |name: &str| -> Vec<Option<String>> {
-        match binding.index.get(name) {
-            Some(&index) => extract_text(df, index),
-            None => vec![None; height],
-        }
-    };
-    let name_of = |canonical: &'static str| -> String {
-        binding
-            .index
-            .get(canonical)
-            .map(|&index| column_name(df, index))
-            .unwrap_or_else(|| canonical.to_string())
-    };
-
-    let run_ids = text("run");
-    let families = text("family");
-    let dim = integer("dim", problems);
-    let vc_dim = integer("vc_dim", problems);
-    let size = integer("size", problems);
-    let weights = integer("weights", problems);
-    let layers = integer("layers", problems);
-    let units = integer("units", problems);
-    let leaves = integer("leaves", problems);
-    let features = integer("features", problems);
-    let train_n = integer("train_n", problems);
-    let train_rate = float("train_error_rate", problems);
-    let train_accuracy = float("train_accuracy", problems);
-    let train_count = integer("train_misclassified", problems);
-    let holdout_n = integer("holdout_n", problems);
-    let holdout_rate = float("holdout_error_rate", problems);
-    let holdout_accuracy = float("holdout_accuracy", problems);
-    let holdout_count = integer("holdout_misclassified", problems);
-    let holdout_sets = text("holdout_set");
-    let candidates = integer("candidates", problems);
-    let claimed_accuracy = float("claimed_accuracy", problems);
-    let claimed_error = float("claimed_error_rate", problems);
-    let logged_at = text("logged_at");
 
     // Problems found while typing cells, grouped by row.
     let mut row_problems: Vec<Vec<Problem>> = vec![Vec::new(); height];
@@ -135,32 +132,145 @@ pub fn table_runs(
         }
     }
 
-    let scale = if settings.percent { 100.0 } else { 1.0 };
-    let range_text = if settings.percent {
-        "[0, 100]"
-    } else {
-        "[0, 1]"
-    };
+    // Rows are independent: assemble them in parallel, keeping their order.
+    let assembled: Vec<Result<RunInput, (usize, Vec<Problem>)>> = row_problems
+        .into_par_iter()
+        .enumerate()
+        .map(|(i, found)| table.assemble(i, found).map_err(|p| (i + 1, p)))
+        .collect();
     let mut runs = Vec::with_capacity(height);
     let mut bad_rows = Vec::new();
-    for i in 0..height {
+    for result in assembled {
+        match result {
+            Ok(run) => runs.push(run),
+            Err(bad) => bad_rows.push(bad),
+        }
+    }
+    TableRuns {
+        runs,
+        bad_rows,
+        file_problems,
+    }
+}
+
+/// The position of a canonical column in `CANONICAL_COLUMNS` (resolved at compile
+/// time for the literal names used here, so the per-cell lookups cost nothing).
+#[inline(always)]
+fn slot(canonical: &str) -> usize {
+    match canonical {
+        "run" => 0,
+        "family" => 1,
+        "dim" => 2,
+        "vc_dim" => 3,
+        "size" => 4,
+        "weights" => 5,
+        "layers" => 6,
+        "units" => 7,
+        "leaves" => 8,
+        "features" => 9,
+        "train_n" => 10,
+        "train_error_rate" => 11,
+        "train_accuracy" => 12,
+        "train_misclassified" => 13,
+        "holdout_n" => 14,
+        "holdout_error_rate" => 15,
+        "holdout_accuracy" => 16,
+        "holdout_misclassified" => 17,
+        "holdout_set" => 18,
+        "candidates" => 19,
+        "claimed_accuracy" => 20,
+        "claimed_error_rate" => 21,
+        "logged_at" => 22,
+        _ => usize::MAX,
+    }
+}
+
+#[derive(Clone, Copy)]
+enum CellKind {
+    Float,
+    Integer,
+    Text,
+}
+
+fn cell_kind(canonical: &str) -> CellKind {
+    match canonical {
+        "run" | "family" | "holdout_set" | "logged_at" => CellKind::Text,
+        "train_error_rate" | "train_accuracy" | "holdout_error_rate" | "holdout_accuracy"
+        | "claimed_accuracy" | "claimed_error_rate" => CellKind::Float,
+        _ => CellKind::Integer,
+    }
+}
+
+enum ColumnCells {
+    Absent,
+    Float(Vec<Option<f64>>),
+    Integer(Vec<Option<i64>>),
+    Text(Vec<Option<String>>),
+}
+
+/// The typed columns of one table, and what is needed to assemble its rows.
+struct Extracted<'a> {
+    label: &'a str,
+    settings: &'a IngestSettings,
+    /// In the order of `CANONICAL_COLUMNS`.
+    columns: Vec<ColumnCells>,
+    /// The column name as written in the file, per canonical field (for messages).
+    names: HashMap<&'static str, String>,
+}
+
+impl Extracted<'_> {
+    fn float(&self, canonical: &str, i: usize) -> Option<f64> {
+        match self.columns.get(slot(canonical)) {
+            Some(ColumnCells::Float(cells)) => cells[i],
+            _ => None,
+        }
+    }
+
+    fn integer(&self, canonical: &str, i: usize) -> Option<i64> {
+        match self.columns.get(slot(canonical)) {
+            Some(ColumnCells::Integer(cells)) => cells[i],
+            _ => None,
+        }
+    }
+
+    fn text(&self, canonical: &str, i: usize) -> Option<&str> {
+        match self.columns.get(slot(canonical)) {
+            Some(ColumnCells::Text(cells)) => cells[i].as_deref(),
+            _ => None,
+        }
+    }
+
+    fn name(&self, canonical: &str) -> &str {
+        self.names.get(canonical).map(String::as_str).unwrap_or("")
+    }
+
+    /// Validates row `i` (0-based) into a run, or returns every problem of the row.
+    fn assemble(&self, i: usize, mut found: Vec<Problem>) -> Result<RunInput, Vec<Problem>> {
+        let label = self.label;
+        let settings = self.settings;
         let row = i + 1;
-        let mut found = std::mem::take(&mut row_problems[i]);
-        let mut check_fraction = |canonical: &'static str, value: Option<f64>| -> Option<f64> {
-            let value = value?;
-            let name = name_of(canonical);
+        let scale = if settings.percent { 100.0 } else { 1.0 };
+        let range_text = if settings.percent {
+            "[0, 100]"
+        } else {
+            "[0, 1]"
+        };
+        let mut check_fraction = |canonical: &'static str| -> Option<f64> {
+            let value = self.float(canonical, i)?;
+            if (0.0..=scale).contains(&value) {
+                return Some(value / scale);
+            }
+            let name = self.name(canonical);
             if value.is_nan() {
-                found.push(Problem::cell(label, row, &name, format!("{name} is NaN")));
-                None
+                found.push(Problem::cell(label, row, name, format!("{name} is NaN")));
             } else if value.is_infinite() {
                 found.push(Problem::cell(
                     label,
                     row,
-                    &name,
+                    name,
                     format!("{name} = {value} is not finite"),
                 ));
-                None
-            } else if !(0.0..=scale).contains(&value) {
+            } else {
                 let hint = if !settings.percent && value <= 100.0 && value > 1.0 {
                     " (pass --percent if the logs hold percentages)"
                 } else {
@@ -169,29 +279,27 @@ pub fn table_runs(
                 found.push(Problem::cell(
                     label,
                     row,
-                    &name,
+                    name,
                     format!("{name} = {value} is outside {range_text}{hint}"),
                 ));
-                None
-            } else {
-                Some(value / scale)
             }
+            None
         };
-        let t_rate = check_fraction("train_error_rate", train_rate[i]);
-        let t_accuracy = check_fraction("train_accuracy", train_accuracy[i]);
-        let h_rate = check_fraction("holdout_error_rate", holdout_rate[i]);
-        let h_accuracy = check_fraction("holdout_accuracy", holdout_accuracy[i]);
-        let c_accuracy = check_fraction("claimed_accuracy", claimed_accuracy[i]);
-        let c_error = check_fraction("claimed_error_rate", claimed_error[i]);
+        let t_rate = check_fraction("train_error_rate");
+        let t_accuracy = check_fraction("train_accuracy");
+        let h_rate = check_fraction("holdout_error_rate");
+        let h_accuracy = check_fraction("holdout_accuracy");
+        let c_accuracy = check_fraction("claimed_accuracy");
+        let c_error = check_fraction("claimed_error_rate");
 
-        let mut positive_count = |canonical: &'static str, value: Option<i64>| -> Option<u64> {
-            let value = value?;
+        let mut positive_count = |canonical: &'static str| -> Option<u64> {
+            let value = self.integer(canonical, i)?;
             if value < 1 {
-                let name = name_of(canonical);
+                let name = self.name(canonical);
                 found.push(Problem::cell(
                     label,
                     row,
-                    &name,
+                    name,
                     format!("{name} = {value} must be at least 1"),
                 ));
                 None
@@ -199,35 +307,36 @@ pub fn table_runs(
                 Some(value as u64)
             }
         };
-        let h_n = positive_count("holdout_n", holdout_n[i]);
-        let t_n = positive_count("train_n", train_n[i]);
-        let k_candidates = positive_count("candidates", candidates[i]);
+        let h_n = positive_count("holdout_n");
+        let t_n = positive_count("train_n");
+        let k_candidates = positive_count("candidates");
 
-        if holdout_n[i].is_none() && !row_has_problem_in(&found, &name_of("holdout_n")) {
-            let name = name_of("holdout_n");
+        let holdout_n_name = self.name("holdout_n");
+        if self.integer("holdout_n", i).is_none() && !row_has_problem_in(&found, holdout_n_name) {
             found.push(Problem::cell(
                 label,
                 row,
-                &name,
-                format!("{name} is empty (required)"),
+                holdout_n_name,
+                format!("{holdout_n_name} is empty (required)"),
             ));
         }
 
+        let holdout_count = self.integer("holdout_misclassified", i);
         let holdout = error_of_row(
             label,
             row,
             ErrorColumns {
-                rate: (name_of("holdout_error_rate"), h_rate),
-                accuracy: (name_of("holdout_accuracy"), h_accuracy),
-                count: (name_of("holdout_misclassified"), holdout_count[i]),
+                rate: (self.name("holdout_error_rate"), h_rate),
+                accuracy: (self.name("holdout_accuracy"), h_accuracy),
+                count: (self.name("holdout_misclassified"), holdout_count),
             },
             h_n,
             &mut found,
         );
         if holdout.is_none()
-            && holdout_rate[i].is_none()
-            && holdout_accuracy[i].is_none()
-            && holdout_count[i].is_none()
+            && self.float("holdout_error_rate", i).is_none()
+            && self.float("holdout_accuracy", i).is_none()
+            && holdout_count.is_none()
         {
             found.push(Problem::row(
                 label,
@@ -239,9 +348,12 @@ pub fn table_runs(
             label,
             row,
             ErrorColumns {
-                rate: (name_of("train_error_rate"), t_rate),
-                accuracy: (name_of("train_accuracy"), t_accuracy),
-                count: (name_of("train_misclassified"), train_count[i]),
+                rate: (self.name("train_error_rate"), t_rate),
+                accuracy: (self.name("train_accuracy"), t_accuracy),
+                count: (
+                    self.name("train_misclassified"),
+                    self.integer("train_misclassified", i),
+                ),
             },
             t_n,
             &mut found,
@@ -256,9 +368,9 @@ pub fn table_runs(
                         row,
                         format!(
                             "{} = {} and {} = {} disagree (they must sum to 1)",
-                            name_of("claimed_error_rate"),
+                            self.name("claimed_error_rate"),
                             error * scale,
-                            name_of("claimed_accuracy"),
+                            self.name("claimed_accuracy"),
                             accuracy * scale
                         ),
                     ));
@@ -270,38 +382,40 @@ pub fn table_runs(
             (None, None) => settings.default_claim_accuracy.map(|a| 1.0 - a),
         };
 
-        let family_key = families[i].clone();
-        let params = FamilyParams {
-            dim: dim[i],
-            vc_dim: vc_dim[i],
-            size: size[i],
-            weights: weights[i],
-            layers: layers[i],
-            units: units[i],
-            leaves: leaves[i],
-            features: features[i],
-        };
-        let family = match family_key.as_deref() {
-            Some(key) => match resolve(key, &params) {
-                Ok(family) => family,
-                Err(error) => {
-                    let name = name_of(canonical_param(error.parameter));
-                    found.push(Problem::cell(label, row, &name, error.message));
-                    None
+        let family_key = self.text("family", i);
+        let family = match family_key {
+            Some(key) => {
+                let params = FamilyParams {
+                    dim: self.integer("dim", i),
+                    vc_dim: self.integer("vc_dim", i),
+                    size: self.integer("size", i),
+                    weights: self.integer("weights", i),
+                    layers: self.integer("layers", i),
+                    units: self.integer("units", i),
+                    leaves: self.integer("leaves", i),
+                    features: self.integer("features", i),
+                };
+                match resolve(key, &params) {
+                    Ok(family) => family,
+                    Err(error) => {
+                        let name = self.name(canonical_param(error.parameter));
+                        found.push(Problem::cell(label, row, name, error.message));
+                        None
+                    }
                 }
-            },
+            }
             None => None,
         };
 
-        let logged = match logged_at[i].as_deref() {
+        let logged = match self.text("logged_at", i) {
             Some(text) => match parse_timestamp(text) {
                 Some(time) => Some(time.to_rfc3339_opts(chrono::SecondsFormat::AutoSi, true)),
                 None => {
-                    let name = name_of("logged_at");
+                    let name = self.name("logged_at");
                     found.push(Problem::cell(
                         label,
                         row,
-                        &name,
+                        name,
                         format!("{name} = {text:?} is not a timestamp (RFC 3339 or YYYY-MM-DD[ HH:MM[:SS]])"),
                     ));
                     None
@@ -310,16 +424,16 @@ pub fn table_runs(
             None => None,
         };
 
-        if !found.is_empty() {
-            bad_rows.push((row, found));
-            continue;
-        }
-        let (Some(holdout_n), Some(holdout)) = (h_n, holdout) else {
-            continue; // unreachable: a missing value always leaves a problem above
+        let (Some(holdout_n), Some(holdout), true) = (h_n, holdout, found.is_empty()) else {
+            // A missing required value always leaves a problem above.
+            return Err(found);
         };
         let source = format!("{label}:{row}");
-        runs.push(RunInput {
-            run: run_ids[i].clone().unwrap_or_else(|| source.clone()),
+        Ok(RunInput {
+            run: self
+                .text("run", i)
+                .map(str::to_string)
+                .unwrap_or_else(|| source.clone()),
             source,
             family_key: family_key.map(|k| k.to_ascii_lowercase()),
             family,
@@ -329,16 +443,11 @@ pub fn table_runs(
             holdout_error_rate: holdout.rate,
             holdout_misclassified: holdout.count,
             misclassified_derived: holdout.count_derived,
-            holdout_set: holdout_sets[i].clone(),
+            holdout_set: self.text("holdout_set", i).map(str::to_string),
             candidates: k_candidates.unwrap_or(1),
             claim_error_rate,
             logged_at: logged,
-        });
-    }
-    TableRuns {
-        runs,
-        bad_rows,
-        file_problems,
+        })
     }
 }
 
@@ -360,10 +469,10 @@ fn canonical_param(parameter: &str) -> &'static str {
     }
 }
 
-struct ErrorColumns {
-    rate: (String, Option<f64>),
-    accuracy: (String, Option<f64>),
-    count: (String, Option<i64>),
+struct ErrorColumns<'a> {
+    rate: (&'a str, Option<f64>),
+    accuracy: (&'a str, Option<f64>),
+    count: (&'a str, Option<i64>),
 }
 
 struct ObservedError {
@@ -487,4 +596,36 @@ pub fn parse_timestamp(text: &str) -> Option<DateTime<Utc>> {
         .ok()
         .and_then(|date| date.and_hms_opt(0, 0, 0))
         .map(|naive| naive.and_utc())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn slots_follow_the_canonical_column_order() {
+        for (index, name) in super::super::columns::CANONICAL_COLUMNS.iter().enumerate() {
+            assert_eq!(slot(name), index, "{name}");
+        }
+    }
+
+    #[test]
+    fn timestamps_in_the_documented_forms_parse() {
+        for text in [
+            "2024-09-02T08:14:05Z",
+            "2024-09-03T16:02:44+02:00",
+            "2024-09-02 10:40",
+            "2024-09-02 10:40:07",
+            "2024-09-02",
+        ] {
+            assert!(parse_timestamp(text).is_some(), "{text}");
+        }
+        assert!(parse_timestamp("yesterday").is_none());
+        assert_eq!(
+            parse_timestamp("2024-09-03T16:02:44+02:00")
+                .unwrap()
+                .to_rfc3339(),
+            "2024-09-03T14:02:44+00:00"
+        );
+    }
 }
