@@ -12,6 +12,6 @@ pub const DEMO_RUNS_CSV: &[u8] = include_bytes!("../fixtures/demo/runs.csv");
 pub const DEMO_LABEL: &str = "demo/runs.csv";
 
 /// The demo's log sources.
-pub fn sources() -> Vec<LogSource> {
+pub fn sources() -> Vec<LogSource<'static>> {
     vec![LogSource::Memory(DEMO_LABEL, DEMO_RUNS_CSV, LogFormat::Csv)]
 }

@@ -9,6 +9,7 @@ pub mod audit;
 pub mod certificate;
 pub mod cli;
 pub mod demo;
+pub mod fuzzing;
 pub mod ingest;
 pub mod report;
 pub mod theory;
@@ -57,7 +58,7 @@ pub fn audit_paths(
 
 /// Reads and audits the given sources (files or in-memory logs).
 pub fn audit_sources(
-    sources: &[LogSource],
+    sources: &[LogSource<'_>],
     audit_settings: &AuditSettings,
     ingest_settings: &IngestSettings,
 ) -> Result<AuditDocument, IngestError> {

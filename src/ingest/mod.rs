@@ -77,11 +77,12 @@ pub struct IngestOutcome {
 
 /// Where a log's bytes come from.
 #[derive(Clone, Debug)]
-pub enum LogSource {
+pub enum LogSource<'a> {
     /// A local file.
     Path(PathBuf, LogFormat),
-    /// Bytes compiled into the binary (the demo), with the label they are reported under.
-    Memory(&'static str, &'static [u8], LogFormat),
+    /// Bytes already in memory (the demo's compiled-in logs, or a fuzzer's input),
+    /// with the label they are reported under.
+    Memory(&'a str, &'a [u8], LogFormat),
 }
 
 /// Reads the logs found at `paths` (files or folders).
@@ -171,14 +172,14 @@ struct FileResult {
     file_problems: Vec<Problem>,
 }
 
-fn source_label(source: &LogSource) -> String {
+fn source_label(source: &LogSource<'_>) -> String {
     match source {
         LogSource::Path(path, _) => path.display().to_string(),
         LogSource::Memory(label, _, _) => label.to_string(),
     }
 }
 
-fn read_one(source: &LogSource, settings: &IngestSettings) -> FileResult {
+fn read_one(source: &LogSource<'_>, settings: &IngestSettings) -> FileResult {
     let label = source_label(source);
     let owned;
     let (bytes, format): (&[u8], LogFormat) = match source {

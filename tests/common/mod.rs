@@ -96,3 +96,124 @@ fn parse_csv(text: &str) -> Vec<Vec<String>> {
 pub fn close(a: f64, b: f64, tolerance: f64) -> bool {
     (a - b).abs() <= tolerance * a.abs().max(b.abs()).max(1e-3)
 }
+
+/// How a child process ended, with everything it printed.
+pub struct Finished {
+    /// Exit code; `None` when killed by a signal or by the deadline.
+    pub code: Option<i32>,
+    /// The signal that ended it (Unix), if any.
+    pub signal: Option<i32>,
+    pub stdout: Vec<u8>,
+    pub stderr: String,
+    pub elapsed: std::time::Duration,
+    /// The deadline passed and the process was killed.
+    pub timed_out: bool,
+}
+
+impl Finished {
+    /// Fails unless the process exited by itself with 0, 1 or 2, before the deadline,
+    /// without a panic message.
+    pub fn assert_no_crash(&self, what: &str) {
+        let tail: String = self
+            .stderr
+            .chars()
+            .rev()
+            .take(2000)
+            .collect::<Vec<_>>()
+            .into_iter()
+            .rev()
+            .collect();
+        assert!(
+            !self.timed_out,
+            "{what}: still running after {:?} (hang?); stderr tail:\n{tail}",
+            self.elapsed
+        );
+        assert!(
+            !self.stderr.contains("panicked"),
+            "{what}: panicked; stderr tail:\n{tail}"
+        );
+        assert!(
+            matches!(self.code, Some(0..=2)),
+            "{what}: exit code {:?}, signal {:?}; stderr tail:\n{tail}",
+            self.code,
+            self.signal
+        );
+    }
+}
+
+/// Runs gapcert in `dir` with a deadline; the child is killed when the deadline passes.
+/// Standard output and error are drained on threads so a large output cannot block.
+pub fn gapcert_deadline(dir: &Path, args: &[&str], deadline: std::time::Duration) -> Finished {
+    use std::io::Read;
+    use std::process::Stdio;
+    let started = std::time::Instant::now();
+    let mut child = Command::new(env!("CARGO_BIN_EXE_gapcert"))
+        .args(args)
+        .current_dir(dir)
+        .env("NO_COLOR", "1")
+        .stdin(Stdio::null())
+        .stdout(Stdio::piped())
+        .stderr(Stdio::piped())
+        .spawn()
+        .expect("run gapcert");
+    let mut out_pipe = child.stdout.take().expect("stdout pipe");
+    let mut err_pipe = child.stderr.take().expect("stderr pipe");
+    let out_thread = std::thread::spawn(move || {
+        let mut bytes = Vec::new();
+        let _ = out_pipe.read_to_end(&mut bytes);
+        bytes
+    });
+    // Keep at most the last 1 MB of standard error (enough for any message).
+    let err_thread = std::thread::spawn(move || {
+        let mut kept: Vec<u8> = Vec::new();
+        let mut buffer = [0u8; 1 << 16];
+        while let Ok(read) = err_pipe.read(&mut buffer) {
+            if read == 0 {
+                break;
+            }
+            kept.extend_from_slice(&buffer[..read]);
+            if kept.len() > 2 << 20 {
+                kept.drain(..kept.len() - (1 << 20));
+            }
+        }
+        kept
+    });
+    let mut timed_out = false;
+    let status = loop {
+        if let Some(status) = child.try_wait().expect("wait for gapcert") {
+            break status;
+        }
+        if started.elapsed() > deadline {
+            timed_out = true;
+            let _ = child.kill();
+            break child.wait().expect("wait for killed gapcert");
+        }
+        std::thread::sleep(std::time::Duration::from_millis(10));
+    };
+    let elapsed = started.elapsed();
+    let stdout = out_thread.join().unwrap_or_default();
+    let stderr = String::from_utf8_lossy(&err_thread.join().unwrap_or_default()).to_string();
+    #[cfg(unix)]
+    let signal = std::os::unix::process::ExitStatusExt::signal(&status);
+    #[cfg(not(unix))]
+    let signal = None;
+    Finished {
+        code: if timed_out { None } else { status.code() },
+        signal,
+        stdout,
+        stderr,
+        elapsed,
+        timed_out,
+    }
+}
+
+/// Parses CSV text (RFC 4180) into header-keyed rows, like [`read_csv`].
+pub fn parse_csv_text(text: &str) -> Vec<HashMap<String, String>> {
+    let mut records = parse_csv(text);
+    let header = records.remove(0);
+    records
+        .into_iter()
+        .filter(|r| !(r.len() == 1 && r[0].is_empty()))
+        .map(|r| header.iter().cloned().zip(r).collect())
+        .collect()
+}

@@ -1,0 +1,34 @@
+//! Shared body of the fuzz targets in `fuzz/` (and of their regression tests):
+//! read arbitrary bytes as a log, audit whatever was read, and render every report.
+//! Nothing here may panic, abort or hang, whatever the bytes.
+
+use crate::audit::AuditSettings;
+use crate::ingest::{IngestSettings, LogFormat, LogSource};
+use crate::report::{self, OutputFormat};
+
+/// Reads `data` as a log of `format` (strictly, then leniently), audits it and renders
+/// it in every format into memory.
+pub fn exercise(data: &[u8], format: LogFormat) {
+    let audit_settings = AuditSettings::default();
+    for lenient in [false, true] {
+        let ingest_settings = IngestSettings {
+            lenient,
+            ..IngestSettings::default()
+        };
+        let sources = [LogSource::Memory("fuzz-input", data, format)];
+        if let Ok(doc) = crate::audit_sources(&sources, &audit_settings, &ingest_settings) {
+            for output in [
+                OutputFormat::Table,
+                OutputFormat::Json,
+                OutputFormat::Ndjson,
+                OutputFormat::Csv,
+                OutputFormat::Markdown,
+            ] {
+                let mut sink = Vec::new();
+                let _ = report::write_report(&doc, output, &mut sink, false);
+            }
+            let mut sink = Vec::new();
+            let _ = report::html::write_html(&doc, &mut sink);
+        }
+    }
+}
