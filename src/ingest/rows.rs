@@ -508,7 +508,7 @@ fn error_of_row(
             found.push(Problem::cell(
                 label,
                 row,
-                &count_name,
+                count_name,
                 format!("{count_name} = {count} is negative"),
             ));
             None
@@ -518,7 +518,7 @@ fn error_of_row(
                 found.push(Problem::cell(
                     label,
                     row,
-                    &count_name,
+                    count_name,
                     format!("{count_name} = {count} is more than the {n} examples"),
                 ));
                 None
@@ -528,7 +528,7 @@ fn error_of_row(
                 found.push(Problem::cell(
                     label,
                     row,
-                    &count_name,
+                    count_name,
                     format!("{count_name} = {count} is given but the example count is missing"),
                 ));
                 None

@@ -16,6 +16,10 @@
 //! - [`ln_beta`] (BETALN): `ln B(a, b)` without the cancellation of
 //!   `ln Γ(a) + ln Γ(b) − ln Γ(a + b)` when a or b is large.
 //!
+//! [`normal_upper_deviate_approx`] follows M. J. Wichura, "Algorithm AS 241:
+//! The percentage points of the normal distribution", Applied Statistics
+//! 37(3), 1988, 477–484 (PPND16).
+//!
 //! [`ln_choose`] builds `ln C(n, k)` on [`ln_beta`], so the Stirling terms of
 //! n, k and n − k never cancel each other (needed for n ≈ 10¹² in the growth
 //! functions).
@@ -388,29 +392,103 @@ pub fn ln_one_minus_exp(l: f64) -> f64 {
 
 /// Upper-tail standard normal deviate: z with P[Z > z] = p, for 0 < p ≤ 0.5.
 ///
-/// Starts from Abramowitz & Stegun 1964, eq. 26.2.23 (|error| < 4.5·10⁻⁴)
-/// and takes one Halley step on `ln Q(z) = ln p` with
-/// `Q(z) = ½·exp(−z²/2)·erfc_scaled(z/√2)`, which brings the error to about
-/// 1e-10 (cubic convergence). Used for starting values of the beta inverse.
+/// M. J. Wichura, "Algorithm AS 241: The percentage points of the normal
+/// distribution", Applied Statistics 37(3), 1988, 477–484 (PPND16: rational
+/// approximations in three regions, relative error about 1e-16). One log and
+/// one square root, no refinement step; used for starting values of the beta
+/// inverse.
 pub fn normal_upper_deviate_approx(p: f64) -> f64 {
     let p = p.clamp(f64::MIN_POSITIVE, 0.5);
-    let ln_p = p.ln();
-    let t = (-2.0 * ln_p).sqrt();
-    let z = t
-        - (2.515_517 + 0.802_853 * t + 0.010_328 * t * t)
-            / (1.0 + 1.432_788 * t + 0.189_269 * t * t + 0.001_308 * t * t * t);
-    // ln Q(z) − ln p and its derivatives: d ln Q/dz = −φ(z)/Q(z) =: −m,
-    // d² ln Q/dz² = m(z − m).
-    let scaled = erfc_scaled(z * std::f64::consts::FRAC_1_SQRT_2);
-    let ln_q = (0.5 * scaled).ln() - 0.5 * z * z;
-    let mills = (2.0 / std::f64::consts::PI).sqrt() / scaled;
-    let h = ln_q - ln_p;
-    let d1 = -mills;
-    let d2 = mills * (z - mills);
-    let step = -h / d1 / (1.0 - h * d2 / (2.0 * d1 * d1));
-    if step.is_finite() {
-        z + step
+    let ln_p = if p < 0.075 { p.ln() } else { 0.0 };
+    normal_upper_deviate_given_ln(p, ln_p)
+}
+
+/// [`normal_upper_deviate_approx`] for a caller that already holds `ln p`
+/// (0 < p ≤ 0.5; `ln_p` is only read when p < 0.075).
+pub fn normal_upper_deviate_given_ln(p: f64, ln_p: f64) -> f64 {
+    let q = p - 0.5;
+    if q >= -0.425 {
+        let r = 0.180_625 - q * q;
+        let num = ((((((2.509_080_928_730_122_7e3 * r + 3.343_057_558_358_813e4) * r
+            + 6.726_577_092_700_87e4)
+            * r
+            + 4.592_195_393_154_987e4)
+            * r
+            + 1.373_169_376_550_946e4)
+            * r
+            + 1.971_590_950_306_551_4e3)
+            * r
+            + 1.331_416_678_917_843_8e2)
+            * r
+            + 3.387_132_872_796_366_6;
+        let den = ((((((5.226_495_278_852_854e3 * r + 2.872_908_573_572_194_3e4) * r
+            + 3.930_789_580_009_271e4)
+            * r
+            + 2.121_379_430_158_659_6e4)
+            * r
+            + 5.394_196_021_424_751e3)
+            * r
+            + 6.871_870_074_920_579e2)
+            * r
+            + 4.231_333_070_160_091e1)
+            * r
+            + 1.0;
+        return -q * num / den;
+    }
+    let r = (-ln_p).sqrt();
+    if r <= 5.0 {
+        let r = r - 1.6;
+        let num = ((((((7.745_450_142_783_414e-4 * r + 2.272_384_498_926_918_5e-2) * r
+            + 2.417_807_251_774_506e-1)
+            * r
+            + 1.270_458_252_452_368_4)
+            * r
+            + 3.647_848_324_763_204_5)
+            * r
+            + 5.769_497_221_460_691)
+            * r
+            + 4.630_337_846_156_545)
+            * r
+            + 1.423_437_110_749_683_6;
+        let den = ((((((1.050_750_071_644_416_8e-9 * r + 5.475_938_084_995_345e-4) * r
+            + 1.519_866_656_361_645_7e-2)
+            * r
+            + 1.481_039_764_274_800_7e-1)
+            * r
+            + 6.897_673_349_851e-1)
+            * r
+            + 1.676_384_830_183_803_8)
+            * r
+            + 2.053_191_626_637_759)
+            * r
+            + 1.0;
+        num / den
     } else {
-        z
+        let r = r - 5.0;
+        let num = ((((((2.010_334_399_292_288_1e-7 * r + 2.711_555_568_743_487_6e-5) * r
+            + 1.242_660_947_388_078_4e-3)
+            * r
+            + 2.653_218_952_657_612_3e-2)
+            * r
+            + 2.965_605_718_285_048_9e-1)
+            * r
+            + 1.784_826_539_917_291_3)
+            * r
+            + 5.463_784_911_164_114)
+            * r
+            + 6.657_904_643_501_104;
+        let den = ((((((2.044_263_103_389_939_8e-15 * r + 1.421_511_758_316_446e-7) * r
+            + 1.846_318_317_510_054_7e-5)
+            * r
+            + 7.868_691_311_456_133e-4)
+            * r
+            + 1.487_536_129_085_061_5e-2)
+            * r
+            + 1.369_298_809_227_358e-1)
+            * r
+            + 5.998_322_065_558_879e-1)
+            * r
+            + 1.0;
+        num / den
     }
 }
