@@ -246,25 +246,25 @@ pub fn extract_i64(
     }
 }
 
-/// A text column's cells (numbers and timestamps rendered as text); empty cells are `None`.
-pub fn extract_text(df: &DataFrame, index: usize) -> Vec<Option<String>> {
+/// A text column as a polars string Series (numbers and timestamps rendered as text),
+/// so its cells can be borrowed rather than copied.
+pub fn text_series(df: &DataFrame, index: usize) -> Option<Series> {
     let series = df.columns()[index].as_materialized_series();
-    let text = match series.dtype() {
-        DataType::String => series.clone(),
-        _ => match series.cast(&DataType::String) {
-            Ok(cast) => cast,
-            Err(_) => return vec![None; series.len()],
-        },
-    };
-    text.str()
-        .expect("string column")
-        .iter()
-        .map(|cell| {
-            cell.map(str::trim)
-                .filter(|c| !c.is_empty())
-                .map(str::to_string)
-        })
-        .collect()
+    match series.dtype() {
+        DataType::String => Some(series.clone()),
+        _ => series.cast(&DataType::String).ok(),
+    }
+}
+
+/// The cells of a text Series from [`text_series`], trimmed; empty cells are `None`.
+pub fn text_cells(series: &Series) -> Vec<Option<&str>> {
+    match series.str() {
+        Ok(text) => text
+            .iter()
+            .map(|cell| cell.map(str::trim).filter(|c| !c.is_empty()))
+            .collect(),
+        Err(_) => vec![None; series.len()],
+    }
 }
 
 fn unreadable_column<T>(

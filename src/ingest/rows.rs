@@ -4,10 +4,12 @@
 use chrono::{DateTime, NaiveDate, NaiveDateTime, Utc};
 use std::collections::HashMap;
 
-use polars::prelude::DataFrame;
+use polars::prelude::{DataFrame, Series};
 use rayon::prelude::*;
 
-use super::columns::{bind_columns, column_name, extract_f64, extract_i64, extract_text};
+use super::columns::{
+    bind_columns, column_name, extract_f64, extract_i64, text_cells, text_series,
+};
 use super::problem::Problem;
 use super::settings::IngestSettings;
 use super::RunInput;
@@ -83,9 +85,18 @@ pub fn table_runs(
         .iter()
         .map(|&name| (name, cell_kind(name)))
         .collect();
-    let extracted: Vec<(ColumnCells, Vec<Problem>)> = specs
+    // Text cells are borrowed from these Series (kept alive for the whole table).
+    let text_columns: Vec<Option<Series>> = specs
+        .iter()
+        .map(|&(name, kind)| match (binding.index.get(name), kind) {
+            (Some(&index), CellKind::Text) => text_series(df, index),
+            _ => None,
+        })
+        .collect();
+    let extracted: Vec<(ColumnCells<'_>, Vec<Problem>)> = specs
         .par_iter()
-        .map(|&(name, kind)| {
+        .zip(text_columns.par_iter())
+        .map(|(&(name, kind), text)| {
             let mut problems = Vec::new();
             let cells = match (binding.index.get(name), kind) {
                 (None, _) => ColumnCells::Absent,
@@ -95,12 +106,15 @@ pub fn table_runs(
                 (Some(&index), CellKind::Integer) => {
                     ColumnCells::Integer(extract_i64(label, df, index, &mut problems))
                 }
-                (Some(&index), CellKind::Text) => ColumnCells::Text(extract_text(df, index)),
+                (Some(_), CellKind::Text) => match text {
+                    Some(series) => ColumnCells::Text(text_cells(series)),
+                    None => ColumnCells::Absent,
+                },
             };
             (cells, problems)
         })
         .collect();
-    let mut columns: Vec<ColumnCells> = Vec::with_capacity(extracted.len());
+    let mut columns: Vec<ColumnCells<'_>> = Vec::with_capacity(extracted.len());
     for (cells, mut problems) in extracted {
         cell_problems.append(&mut problems);
         columns.push(cells);
@@ -201,11 +215,11 @@ fn cell_kind(canonical: &str) -> CellKind {
     }
 }
 
-enum ColumnCells {
+enum ColumnCells<'a> {
     Absent,
     Float(Vec<Option<f64>>),
     Integer(Vec<Option<i64>>),
-    Text(Vec<Option<String>>),
+    Text(Vec<Option<&'a str>>),
 }
 
 /// The typed columns of one table, and what is needed to assemble its rows.
@@ -213,7 +227,7 @@ struct Extracted<'a> {
     label: &'a str,
     settings: &'a IngestSettings,
     /// In the order of `CANONICAL_COLUMNS`.
-    columns: Vec<ColumnCells>,
+    columns: Vec<ColumnCells<'a>>,
     /// The column name as written in the file, per canonical field (for messages).
     names: HashMap<&'static str, String>,
 }
@@ -235,7 +249,7 @@ impl Extracted<'_> {
 
     fn text(&self, canonical: &str, i: usize) -> Option<&str> {
         match self.columns.get(slot(canonical)) {
-            Some(ColumnCells::Text(cells)) => cells[i].as_deref(),
+            Some(ColumnCells::Text(cells)) => cells[i],
             _ => None,
         }
     }
