@@ -14,7 +14,7 @@ pub mod ingest;
 pub mod report;
 pub mod theory;
 
-use audit::{audit_runs, summarize, AuditSettings};
+use audit::{audit_runs_owned, summarize, AuditSettings};
 use ingest::{IngestError, IngestOutcome, IngestSettings, LogSource};
 use report::{AuditDocument, DocumentSettings, ToolInfo, CAUTIONS};
 
@@ -25,7 +25,7 @@ pub fn audit_outcome(
     ingest_settings: &IngestSettings,
 ) -> AuditDocument {
     let started = std::time::Instant::now();
-    let runs = audit_runs(&outcome.runs, audit_settings);
+    let runs = audit_runs_owned(outcome.runs, audit_settings);
     timing("audit", started);
     let mut summary = summarize(&runs, audit_settings.gate);
     summary.rows_skipped = outcome.skipped_rows.len();

@@ -59,8 +59,14 @@ pub fn compared_counts(inputs: &[RunInput], settings: &AuditSettings) -> Vec<u64
 
 /// Audits every run (in parallel; the result order is the input order).
 pub fn audit_runs(inputs: &[RunInput], settings: &AuditSettings) -> Vec<RunResult> {
-    let delta = familywise_delta(inputs, settings);
-    let compared = compared_counts(inputs, settings);
+    audit_runs_owned(inputs.to_vec(), settings)
+}
+
+/// [`audit_runs`] for callers that no longer need the inputs: strings are moved, not
+/// copied.
+pub fn audit_runs_owned(inputs: Vec<RunInput>, settings: &AuditSettings) -> Vec<RunResult> {
+    let delta = familywise_delta(&inputs, settings);
+    let compared = compared_counts(&inputs, settings);
 
     // train_needed depends only on the family, δ and the tolerance: solve once per
     // distinct family, in parallel (a sweep over many sizes has many families).
@@ -76,9 +82,9 @@ pub fn audit_runs(inputs: &[RunInput], settings: &AuditSettings) -> Vec<RunResul
     crate::timing("  train_needed per family", started);
 
     inputs
-        .par_iter()
-        .zip(compared.par_iter())
-        .map(|(input, &compared)| {
+        .into_par_iter()
+        .zip(compared.into_par_iter())
+        .map(|(input, compared)| {
             let context = RunContext {
                 compared,
                 delta,

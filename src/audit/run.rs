@@ -17,7 +17,8 @@ pub struct RunContext {
 }
 
 /// Audits one run.
-pub fn audit_run(input: &RunInput, context: RunContext, settings: &AuditSettings) -> RunResult {
+/// Takes the run by value so its strings move into the result instead of being copied.
+pub fn audit_run(input: RunInput, context: RunContext, settings: &AuditSettings) -> RunResult {
     let compared = context.compared.max(1);
     let delta = context.delta;
     let delta_per_run = delta / compared as f64;
@@ -150,15 +151,15 @@ pub fn audit_run(input: &RunInput, context: RunContext, settings: &AuditSettings
         });
     }
     RunResult {
-        run: input.run.clone(),
-        source: input.source.clone(),
-        family: input.family_key.clone(),
+        run: input.run,
+        source: input.source,
+        family: input.family_key,
         train_n: input.train_n,
         train_error_rate: input.train_error_rate,
         holdout_n: n,
         holdout_error_rate: rate,
         holdout_misclassified: k,
-        holdout_set: input.holdout_set.clone(),
+        holdout_set: input.holdout_set,
         candidates: compared,
         delta: delta_per_run,
         hoeffding_interval: [hoeffding_interval.0, hoeffding_interval.1],
@@ -176,6 +177,6 @@ pub fn audit_run(input: &RunInput, context: RunContext, settings: &AuditSettings
         holdout_needed,
         train_needed: context.train_needed,
         findings,
-        logged_at: input.logged_at.clone(),
+        logged_at: input.logged_at,
     }
 }
