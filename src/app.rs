@@ -175,6 +175,14 @@ pub fn run_audit(
 ) -> Result<Outcome, AppError> {
     let (audit_settings, ingest_settings) = resolve_settings(options)?;
     let format = output_format(options.format);
+    // Check every destination before writing any, so a failing command leaves no
+    // output file behind.
+    for path in [&options.output, &options.certificate, &options.html]
+        .into_iter()
+        .flatten()
+    {
+        check_destination(path)?;
+    }
     if format.is_binary() && options.output.is_none() && io::stdout().is_terminal() {
         return Err(AppError(
             "--format parquet writes binary data: add --output FILE (or redirect standard output)"
@@ -191,11 +199,20 @@ pub fn run_audit(
     progress.finish();
     let doc = result?;
     if terminal.verbose && !terminal.quiet {
+        use crate::report::table::printable;
         for skipped in &doc.skipped_files {
-            eprintln!("skipped {}: {}", skipped.path, skipped.reason);
+            eprintln!(
+                "skipped {}: {}",
+                printable(&skipped.path),
+                printable(&skipped.reason)
+            );
         }
         for skipped in &doc.skipped_rows {
-            eprintln!("skipped {}: {}", skipped.source, skipped.reasons.join("; "));
+            eprintln!(
+                "skipped {}: {}",
+                printable(&skipped.source),
+                printable(&skipped.reasons.join("; "))
+            );
         }
     }
 
@@ -216,6 +233,29 @@ pub fn run_audit(
         GateResult::Pass => Outcome::Pass,
         GateResult::Fail => Outcome::Fail,
     })
+}
+
+/// Fails early when an output file cannot be created: its folder is missing or is not
+/// a folder, or the path is a folder.
+fn check_destination(path: &Path) -> Result<(), AppError> {
+    let folder = match path.parent() {
+        Some(parent) if !parent.as_os_str().is_empty() => parent,
+        _ => Path::new("."),
+    };
+    if !folder.is_dir() {
+        return Err(AppError(format!(
+            "{}: cannot write (the folder {} does not exist); nothing was written",
+            path.display(),
+            folder.display()
+        )));
+    }
+    if path.is_dir() {
+        return Err(AppError(format!(
+            "{}: cannot write (it is a folder); nothing was written",
+            path.display()
+        )));
+    }
+    Ok(())
 }
 
 /// Writes a file atomically, naming it in any error.

@@ -143,7 +143,7 @@ pub struct PlanTrainArgs {
 pub struct GrowthArgs {
     #[command(flatten)]
     pub family: FamilyArgs,
-    /// Largest N in the table.
+    /// Largest N in the table (at most 10000).
     #[arg(long, default_value_t = 10, value_name = "N")]
     pub upto: u64,
     /// Also draw m_H(N) against 2^N as an SVG chart.

@@ -12,7 +12,7 @@ use std::collections::HashMap;
 use rayon::prelude::*;
 
 pub use result::{Finding, FindingCode, GateResult, RunResult, Summary, Verdict};
-pub use run::{audit_run, RunContext};
+pub use run::{audit_run, holdout_needed_for, RunContext};
 pub use settings::{AuditSettings, Gate, HoldoutBound};
 
 use crate::ingest::RunInput;
@@ -81,7 +81,7 @@ pub fn audit_runs_owned(inputs: Vec<RunInput>, settings: &AuditSettings) -> Vec<
         .collect();
     crate::timing("  train_needed per family", started);
 
-    inputs
+    let mut results: Vec<RunResult> = inputs
         .into_par_iter()
         .zip(compared.into_par_iter())
         .map(|(input, compared)| {
@@ -91,10 +91,47 @@ pub fn audit_runs_owned(inputs: Vec<RunInput>, settings: &AuditSettings) -> Vec<
                 train_needed: input
                     .family
                     .and_then(|f| train_needed.get(&FamilyId::of(&f)).copied().flatten()),
+                defer_holdout_needed: true,
             };
             audit_run(input, context, settings)
         })
-        .collect()
+        .collect();
+
+    // holdout_needed is a search over n (dozens of inversions); sweeps repeat the same
+    // (rate, claim, δ/K), so solve each distinct one once, in parallel.
+    let started = std::time::Instant::now();
+    let key = |r: &RunResult| -> Option<(u64, u64, u64)> {
+        match (r.verdict, r.claim_error_rate) {
+            (Verdict::Unproven, Some(claim)) if r.holdout_error_rate < claim => Some((
+                r.holdout_error_rate.to_bits(),
+                claim.to_bits(),
+                r.delta.to_bits(),
+            )),
+            _ => None,
+        }
+    };
+    let distinct: std::collections::HashSet<(u64, u64, u64)> =
+        results.iter().filter_map(key).collect();
+    let solved: HashMap<(u64, u64, u64), Option<u64>> = distinct
+        .into_par_iter()
+        .map(|k @ (rate, claim, alpha)| {
+            let needed = holdout_needed_for(
+                Verdict::Unproven,
+                f64::from_bits(rate),
+                Some(f64::from_bits(claim)),
+                f64::from_bits(alpha),
+                settings.holdout_bound,
+            );
+            (k, needed)
+        })
+        .collect();
+    for result in &mut results {
+        if let Some(k) = key(result) {
+            result.holdout_needed = solved.get(&k).copied().flatten();
+        }
+    }
+    crate::timing("  holdout_needed per distinct claim", started);
+    results
 }
 
 /// Counts verdicts and applies the gate.

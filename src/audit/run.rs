@@ -14,6 +14,31 @@ pub struct RunContext {
     pub delta: f64,
     /// `train_needed` for the run's family at this δ (computed once per family).
     pub train_needed: Option<u64>,
+    /// Leave `holdout_needed` empty: the caller fills it once per distinct
+    /// (rate, claim, δ/K) with [`holdout_needed_for`], since sweeps repeat them.
+    pub defer_holdout_needed: bool,
+}
+
+/// `holdout_needed` (SPEC §4): null unless the claim is unproven and the observed rate
+/// is below it.
+pub fn holdout_needed_for(
+    verdict: Verdict,
+    rate: f64,
+    claim: Option<f64>,
+    delta_per_run: f64,
+    bound: HoldoutBound,
+) -> Option<u64> {
+    match (verdict, claim) {
+        (Verdict::Unproven, Some(claim)) if rate < claim => match bound {
+            HoldoutBound::Binomial => {
+                sample_size::holdout_needed_binomial(rate, claim, delta_per_run)
+            }
+            HoldoutBound::Hoeffding => {
+                sample_size::holdout_needed_hoeffding(rate, claim, delta_per_run)
+            }
+        },
+        _ => None,
+    }
 }
 
 /// Audits one run.
@@ -56,16 +81,16 @@ pub fn audit_run(input: RunInput, context: RunContext, settings: &AuditSettings)
         _ => None,
     };
 
-    let holdout_needed = match (verdict, input.claim_error_rate) {
-        (Verdict::Unproven, Some(claim)) if rate < claim => match settings.holdout_bound {
-            HoldoutBound::Binomial => {
-                sample_size::holdout_needed_binomial(rate, claim, delta_per_run)
-            }
-            HoldoutBound::Hoeffding => {
-                sample_size::holdout_needed_hoeffding(rate, claim, delta_per_run)
-            }
-        },
-        _ => None,
+    let holdout_needed = if context.defer_holdout_needed {
+        None
+    } else {
+        holdout_needed_for(
+            verdict,
+            rate,
+            input.claim_error_rate,
+            delta_per_run,
+            settings.holdout_bound,
+        )
     };
 
     let mut findings = Vec::new();

@@ -3,6 +3,7 @@
 //! Paths are always local filesystem paths. Nothing here (or downstream) interprets a
 //! path as a URL: `s3://bucket/x.csv` is simply a file name that does not exist.
 
+use std::collections::HashSet;
 use std::path::{Path, PathBuf};
 
 use super::problem::IngestError;
@@ -53,6 +54,7 @@ pub struct Discovery {
 /// folders are skipped and counted; an explicit file of unknown type is an error.
 pub fn discover(paths: &[PathBuf]) -> Result<Discovery, IngestError> {
     let mut discovery = Discovery::default();
+    let mut visited = HashSet::new();
     for path in paths {
         let metadata = std::fs::metadata(path).map_err(|error| {
             IngestError::Usage(format!(
@@ -62,7 +64,13 @@ pub fn discover(paths: &[PathBuf]) -> Result<Discovery, IngestError> {
             ))
         })?;
         if metadata.is_dir() {
-            walk(path, &mut discovery)?;
+            walk(path, &mut discovery, &mut visited)?;
+        } else if !metadata.is_file() {
+            // A FIFO or device would block the read or never end.
+            return Err(IngestError::Usage(format!(
+                "{}: not a regular file (a pipe or device); save the log to a file first",
+                path.display()
+            )));
         } else {
             match LogFormat::from_path(path) {
                 Some(format) => discovery.logs.push(LogFile {
@@ -89,7 +97,19 @@ pub fn discover(paths: &[PathBuf]) -> Result<Discovery, IngestError> {
     Ok(discovery)
 }
 
-fn walk(folder: &Path, discovery: &mut Discovery) -> Result<(), IngestError> {
+/// Walks a folder. Symbolic links to folders are followed once: `visited` holds the
+/// canonical path of every folder entered, so a link loop ends instead of recursing
+/// forever.
+fn walk(
+    folder: &Path,
+    discovery: &mut Discovery,
+    visited: &mut HashSet<PathBuf>,
+) -> Result<(), IngestError> {
+    if let Ok(canonical) = std::fs::canonicalize(folder) {
+        if !visited.insert(canonical) {
+            return Ok(());
+        }
+    }
     let entries = std::fs::read_dir(folder).map_err(|error| {
         IngestError::Usage(format!(
             "{}: cannot list this folder ({})",
@@ -107,7 +127,9 @@ fn walk(folder: &Path, discovery: &mut Discovery) -> Result<(), IngestError> {
             continue;
         };
         if metadata.is_dir() {
-            walk(&child, discovery)?;
+            walk(&child, discovery, visited)?;
+        } else if !metadata.is_file() {
+            discovery.skipped_files.push(child);
         } else if let Some(format) = LogFormat::from_path(&child) {
             discovery.logs.push(LogFile {
                 path: child,

@@ -5,6 +5,43 @@
 use std::fs::{self, File};
 use std::io::{self, BufWriter, Write};
 use std::path::{Path, PathBuf};
+use std::sync::{Mutex, Once};
+
+/// Temporary files being written right now, removed if SIGTERM, SIGINT or SIGHUP
+/// arrives, so an interrupted run leaves neither a partial output nor a stray
+/// temporary file. (SIGKILL and power loss cannot be caught; the destination is still
+/// never partial.)
+static LIVE_TEMPORARIES: Mutex<Vec<PathBuf>> = Mutex::new(Vec::new());
+static CLEANUP_HANDLER: Once = Once::new();
+
+fn install_cleanup_handler() {
+    CLEANUP_HANDLER.call_once(|| {
+        use signal_hook::consts::{SIGHUP, SIGINT, SIGTERM};
+        if let Ok(mut signals) = signal_hook::iterator::Signals::new([SIGTERM, SIGINT, SIGHUP]) {
+            std::thread::spawn(move || {
+                if let Some(signal) = signals.forever().next() {
+                    if let Ok(live) = LIVE_TEMPORARIES.lock() {
+                        for path in live.iter() {
+                            let _ = fs::remove_file(path);
+                        }
+                    }
+                    eprintln!("gapcert: interrupted; no output file was written");
+                    std::process::exit(128 + signal);
+                }
+            });
+        }
+    });
+}
+
+fn track(path: &Path, live: bool) {
+    if let Ok(mut list) = LIVE_TEMPORARIES.lock() {
+        if live {
+            list.push(path.to_path_buf());
+        } else {
+            list.retain(|p| p != path);
+        }
+    }
+}
 
 /// Writes `path` atomically with the bytes `write` produces. On any error the
 /// temporary file is removed and the destination is untouched.
@@ -33,6 +70,8 @@ where
         .to_string_lossy()
         .to_string();
     let temporary = folder.join(format!(".{file_name}.gapcert-{}.tmp", std::process::id()));
+    install_cleanup_handler();
+    track(&temporary, true);
     let result = (|| {
         let file = File::create(&temporary)?;
         let mut writer = BufWriter::with_capacity(1 << 20, file);
@@ -44,5 +83,6 @@ where
     if result.is_err() {
         let _ = fs::remove_file(&temporary);
     }
+    track(&temporary, false);
     result
 }

@@ -65,7 +65,7 @@ fn row_cells(run: &RunResult, color: bool, method: crate::audit::HoldoutBound) -
     };
     vec![
         verdict,
-        Cell::new(&run.run),
+        Cell::new(printable(&run.run)),
         Cell::new(format!(
             "{} ({}/{})",
             percent(run.holdout_error_rate),
@@ -106,6 +106,18 @@ fn row_cells(run: &RunResult, color: bool, method: crate::audit::HoldoutBound) -
                 .join(", "),
         ),
     ]
+}
+
+/// Text from the logs made safe for a terminal: line breaks and tabs become spaces
+/// (one line per run), other control characters (escape sequences) become U+FFFD.
+pub fn printable(text: &str) -> String {
+    text.chars()
+        .map(|c| match c {
+            '\n' | '\r' | '\t' => ' ',
+            c if c.is_control() => '\u{FFFD}',
+            c => c,
+        })
+        .collect()
 }
 
 /// 1234567 → "1,234,567".
