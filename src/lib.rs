@@ -3,6 +3,24 @@
 //!
 //! Data flows one way: [`ingest`] reads logs into validated runs, [`audit`] evaluates
 //! each run with the pure mathematics of [`theory`], and [`report`] renders the result.
+//!
+//! ```
+//! use gapcert::audit::{AuditSettings, Verdict};
+//! use gapcert::ingest::{IngestSettings, LogFormat, LogSource};
+//!
+//! // An invented log: 12 errors in 2,000 held-out examples, claiming 98 % accuracy.
+//! let log = b"run,holdout_n,holdout_misclassified,claimed_accuracy\nexample,2000,12,0.98\n";
+//! let sources = [LogSource::Memory("example.csv", log, LogFormat::Csv)];
+//! let doc = gapcert::audit_sources(&sources, &AuditSettings::default(), &IngestSettings::default())
+//!     .expect("a valid log");
+//! let run = &doc.runs[0];
+//! // Exact one-sided 95 % upper bound on the true error (Clopper–Pearson): about 1.0 %.
+//! assert!(run.error_upper_bound > 0.006 && run.error_upper_bound < 0.02);
+//! assert_eq!(run.verdict, Verdict::Certified);
+//!
+//! // The same evidence cannot support 99.5 %.
+//! assert!(gapcert::theory::binomial::upper_bound(12, 2000, 0.05) > 0.005);
+//! ```
 
 pub mod app;
 pub mod audit;
