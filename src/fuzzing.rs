@@ -9,6 +9,13 @@ use crate::report::{self, OutputFormat};
 /// Reads `data` as a log of `format` (strictly, then leniently), audits it and renders
 /// it in every format into memory.
 pub fn exercise(data: &[u8], format: LogFormat) {
+    // libFuzzer's hook aborts on any panic, even one the readers catch; use gapcert's
+    // own (an uncaught panic still reaches libFuzzer's catch_unwind and is a crash).
+    static HOOK: std::sync::Once = std::sync::Once::new();
+    HOOK.call_once(|| {
+        let _ = std::panic::take_hook();
+        crate::install_panic_hook();
+    });
     let audit_settings = AuditSettings::default();
     for lenient in [false, true] {
         let ingest_settings = IngestSettings {

@@ -91,3 +91,14 @@ pub fn timing(phase: &str, started: std::time::Instant) {
         eprintln!("timing: {phase} {:.3} s", started.elapsed().as_secs_f64());
     }
 }
+
+/// Installs a panic hook that stays silent while a guarded reader runs (its panic is
+/// caught and reported as an input problem) and otherwise prints the standard message.
+pub fn install_panic_hook() {
+    let default_hook = std::panic::take_hook();
+    std::panic::set_hook(Box::new(move |info| {
+        if ingest::formats::GUARDED_READERS.load(std::sync::atomic::Ordering::SeqCst) == 0 {
+            default_hook(info);
+        }
+    }));
+}

@@ -9,6 +9,7 @@ use gapcert::app::{self, Outcome};
 use gapcert::cli::Cli;
 
 fn main() -> ExitCode {
+    gapcert::install_panic_hook();
     let cli = match Cli::try_parse() {
         Ok(cli) => cli,
         Err(error) => {

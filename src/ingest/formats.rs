@@ -7,6 +7,8 @@
 //! truncated or malformed line.
 
 use std::io::Cursor;
+use std::panic::{catch_unwind, AssertUnwindSafe};
+use std::sync::atomic::{AtomicUsize, Ordering};
 
 use polars::prelude::*;
 use serde_json::Value;
@@ -29,24 +31,14 @@ pub fn read_table(
     match format {
         LogFormat::Csv => read_delimited(label, bytes, b',').map(|df| (df, Vec::new())),
         LogFormat::Tsv => read_delimited(label, bytes, b'\t').map(|df| (df, Vec::new())),
-        LogFormat::Parquet => ParquetReader::new(Cursor::new(bytes))
-            .finish()
-            .map(|df| (df, Vec::new()))
-            .map_err(|error| {
-                vec![Problem::file(
-                    label,
-                    format!("cannot read as Parquet: {}", polars_message(&error)),
-                )]
-            }),
-        LogFormat::Arrow => IpcReader::new(Cursor::new(bytes))
-            .finish()
-            .map(|df| (df, Vec::new()))
-            .map_err(|error| {
-                vec![Problem::file(
-                    label,
-                    format!("cannot read as Arrow IPC: {}", polars_message(&error)),
-                )]
-            }),
+        LogFormat::Parquet => guarded(label, "Parquet", || {
+            ParquetReader::new(Cursor::new(bytes)).finish()
+        })
+        .map(|df| (df, Vec::new())),
+        LogFormat::Arrow => guarded(label, "Arrow IPC", || {
+            IpcReader::new(Cursor::new(bytes)).finish()
+        })
+        .map(|df| (df, Vec::new())),
         LogFormat::JsonLines => read_json_lines(label, strip_bom(bytes)),
         LogFormat::Json => read_json_document(label, strip_bom(bytes)),
     }
@@ -54,6 +46,34 @@ pub fn read_table(
 
 fn strip_bom(bytes: &[u8]) -> &[u8] {
     bytes.strip_prefix(UTF8_BOM).unwrap_or(bytes)
+}
+
+/// Readers running under [`guarded`] right now; the binary's panic hook stays silent
+/// while this is non-zero, since such a panic is reported as an input problem.
+pub static GUARDED_READERS: AtomicUsize = AtomicUsize::new(0);
+
+/// Runs a polars reader, turning both its errors and its panics into a problem with
+/// the file. Fuzzing found malformed Parquet that trips an assertion inside polars
+/// (fuzz/regressions/ingest_parquet-bitmap-offset); a bad input file must be reported,
+/// never crash the audit.
+fn guarded<F>(label: &str, kind: &str, read: F) -> Result<DataFrame, Vec<Problem>>
+where
+    F: FnOnce() -> PolarsResult<DataFrame>,
+{
+    GUARDED_READERS.fetch_add(1, Ordering::SeqCst);
+    let outcome = catch_unwind(AssertUnwindSafe(read));
+    GUARDED_READERS.fetch_sub(1, Ordering::SeqCst);
+    match outcome {
+        Ok(Ok(df)) => Ok(df),
+        Ok(Err(error)) => Err(vec![Problem::file(
+            label,
+            format!("cannot read as {kind}: {}", polars_message(&error)),
+        )]),
+        Err(_) => Err(vec![Problem::file(
+            label,
+            format!("cannot read as {kind}: the file is malformed (the reader stopped on inconsistent data)"),
+        )]),
+    }
 }
 
 /// The first line of a polars error, without its internal context.
@@ -81,15 +101,11 @@ fn read_delimited(label: &str, bytes: &[u8], separator: u8) -> Result<DataFrame,
         .with_has_header(true)
         .with_infer_schema_length(Some(0))
         .with_parse_options(parse_options);
-    let df = options
-        .into_reader_with_file_handle(Cursor::new(bytes))
-        .finish()
-        .map_err(|error| {
-            vec![Problem::file(
-                label,
-                format!("cannot read as delimited text: {}", polars_message(&error)),
-            )]
-        })?;
+    let df = guarded(label, "delimited text", || {
+        options
+            .into_reader_with_file_handle(Cursor::new(bytes))
+            .finish()
+    })?;
     Ok(strip_carriage_returns(df))
 }
 
