@@ -191,7 +191,12 @@ pub fn run_audit(
     }
     let progress = Progress::start(terminal, "reading logs");
     let result = match spec {
-        SourceSpec::Paths(paths) => crate::audit_paths(paths, &audit_settings, &ingest_settings),
+        SourceSpec::Paths(paths) => crate::audit_paths_reporting(
+            paths,
+            &audit_settings,
+            &ingest_settings,
+            &|done, total| progress.file_read(done, total),
+        ),
         SourceSpec::Demo => {
             crate::audit_sources(&crate::demo::sources(), &audit_settings, &ingest_settings)
         }
@@ -331,6 +336,27 @@ impl Progress {
             }
         });
         Progress { bar: Some(bar) }
+    }
+
+    /// After each file: with several files, the spinner becomes a bar of files read
+    /// (the audit and the report follow the last file).
+    pub fn file_read(&self, done: usize, total: usize) {
+        let Some(bar) = &self.bar else { return };
+        if total > 1 {
+            if bar.length() != Some(total as u64) {
+                bar.set_length(total as u64);
+                bar.set_style(
+                    ProgressStyle::with_template(
+                        "{bar:30} {pos}/{len} files read ({elapsed}) {msg}",
+                    )
+                    .unwrap_or_else(|_| ProgressStyle::default_bar()),
+                );
+            }
+            bar.set_position(done as u64);
+        }
+        if done == total {
+            bar.set_message("auditing");
+        }
     }
 
     pub fn finish(self) {

@@ -68,8 +68,18 @@ pub fn audit_paths(
     audit_settings: &AuditSettings,
     ingest_settings: &IngestSettings,
 ) -> Result<AuditDocument, IngestError> {
+    audit_paths_reporting(paths, audit_settings, ingest_settings, &|_, _| {})
+}
+
+/// [`audit_paths`], reporting each file read to `progress` (files read, files in all).
+pub fn audit_paths_reporting(
+    paths: &[std::path::PathBuf],
+    audit_settings: &AuditSettings,
+    ingest_settings: &IngestSettings,
+    progress: ingest::FileProgress<'_>,
+) -> Result<AuditDocument, IngestError> {
     let started = std::time::Instant::now();
-    let outcome = ingest::read_paths(paths, ingest_settings)?;
+    let outcome = ingest::read_paths_reporting(paths, ingest_settings, progress)?;
     timing("ingest", started);
     Ok(audit_outcome(outcome, audit_settings, ingest_settings))
 }

@@ -85,10 +85,22 @@ pub enum LogSource<'a> {
     Memory(&'a str, &'a [u8], LogFormat),
 }
 
+/// Told (files read so far, files in all) as each file is read, for a progress bar.
+pub type FileProgress<'a> = &'a (dyn Fn(usize, usize) + Sync);
+
 /// Reads the logs found at `paths` (files or folders).
 pub fn read_paths(
     paths: &[PathBuf],
     settings: &IngestSettings,
+) -> Result<IngestOutcome, IngestError> {
+    read_paths_reporting(paths, settings, &|_, _| {})
+}
+
+/// [`read_paths`], reporting each file read to `progress`.
+pub fn read_paths_reporting(
+    paths: &[PathBuf],
+    settings: &IngestSettings,
+    progress: FileProgress<'_>,
 ) -> Result<IngestOutcome, IngestError> {
     let discovery = discover(paths)?;
     let sources: Vec<LogSource> = discovery
@@ -96,7 +108,7 @@ pub fn read_paths(
         .iter()
         .map(|log| LogSource::Path(log.path.clone(), log.format))
         .collect();
-    let mut outcome = read_sources(&sources, settings)?;
+    let mut outcome = read_sources_reporting(&sources, settings, progress)?;
     outcome
         .skipped_files
         .extend(discovery.skipped_files.iter().map(|path| SkippedFile {
@@ -111,10 +123,25 @@ pub fn read_sources(
     sources: &[LogSource],
     settings: &IngestSettings,
 ) -> Result<IngestOutcome, IngestError> {
+    read_sources_reporting(sources, settings, &|_, _| {})
+}
+
+/// [`read_sources`], reporting each file read to `progress`.
+pub fn read_sources_reporting(
+    sources: &[LogSource],
+    settings: &IngestSettings,
+    progress: FileProgress<'_>,
+) -> Result<IngestOutcome, IngestError> {
     columns::check_column_map(&settings.column_map).map_err(IngestError::Usage)?;
+    let done = std::sync::atomic::AtomicUsize::new(0);
     let per_file: Vec<FileResult> = sources
         .par_iter()
-        .map(|source| read_one(source, settings))
+        .map(|source| {
+            let result = read_one(source, settings);
+            let finished = done.fetch_add(1, std::sync::atomic::Ordering::Relaxed) + 1;
+            progress(finished, sources.len());
+            result
+        })
         .collect();
 
     let mut outcome = IngestOutcome::default();
