@@ -93,6 +93,25 @@ const HOSTILE_NAMES: &[&str] = &[
 ];
 
 /// A CSV log with one run per hostile name (quoted, doubled quotes).
+/// Audits the hostile-names log in `format` (gate never) and returns standard output.
+fn audit_hostile_names(format: &str) -> String {
+    let dir = tempfile::tempdir().unwrap();
+    write(dir.path(), "hostile.csv", &hostile_csv());
+    let finished = run(
+        dir.path(),
+        &[
+            "audit",
+            "hostile.csv",
+            "--format",
+            format,
+            "--gate",
+            "never",
+        ],
+    );
+    assert_eq!(finished.code, Some(0), "{}", finished.stderr);
+    String::from_utf8(finished.stdout).unwrap()
+}
+
 fn hostile_csv() -> String {
     let mut csv = String::from(
         "run,family,holdout_set,train_n,train_error_rate,holdout_n,holdout_misclassified,claimed_accuracy\n",
@@ -161,21 +180,7 @@ fn assert_markdown_table_intact(markdown: &str, runs: usize) {
 
 #[test]
 fn markdown_table_survives_hostile_run_names_end_to_end() {
-    let dir = tempfile::tempdir().unwrap();
-    write(dir.path(), "hostile.csv", &hostile_csv());
-    let finished = run(
-        dir.path(),
-        &[
-            "audit",
-            "hostile.csv",
-            "--format",
-            "markdown",
-            "--gate",
-            "never",
-        ],
-    );
-    assert_eq!(finished.code, Some(0), "{}", finished.stderr);
-    let markdown = String::from_utf8(finished.stdout).unwrap();
+    let markdown = audit_hostile_names("markdown");
     assert_markdown_table_intact(&markdown, HOSTILE_NAMES.len());
 }
 
@@ -357,21 +362,7 @@ fn csv_output_guards_names_split_names_and_file_names_end_to_end() {
 
 #[test]
 fn table_keeps_one_line_per_run_and_prints_no_control_characters() {
-    let dir = tempfile::tempdir().unwrap();
-    write(dir.path(), "hostile.csv", &hostile_csv());
-    let finished = run(
-        dir.path(),
-        &[
-            "audit",
-            "hostile.csv",
-            "--format",
-            "table",
-            "--gate",
-            "never",
-        ],
-    );
-    assert_eq!(finished.code, Some(0), "{}", finished.stderr);
-    let table = String::from_utf8(finished.stdout).unwrap();
+    let table = audit_hostile_names("table");
     let controls = control_characters(&table);
     assert!(
         controls.is_empty(),

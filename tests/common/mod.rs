@@ -43,14 +43,7 @@ pub fn gapcert_json(args: &[&str]) -> (i32, serde_json::Value) {
 
 /// A minimal RFC 4180 reader: header plus rows as maps.
 pub fn read_csv(path: &Path) -> Vec<HashMap<String, String>> {
-    let text = std::fs::read_to_string(path).expect("read csv");
-    let mut records = parse_csv(&text);
-    let header = records.remove(0);
-    records
-        .into_iter()
-        .filter(|r| !(r.len() == 1 && r[0].is_empty()))
-        .map(|r| header.iter().cloned().zip(r).collect())
-        .collect()
+    parse_csv_text(&std::fs::read_to_string(path).expect("read csv"))
 }
 
 fn parse_csv(text: &str) -> Vec<Vec<String>> {
