@@ -13,7 +13,8 @@ use crate::cli::{
     AuditOptions, BoundArg, Cli, Command, FamilyArgs, GateArg, GrowthArgs, PlanCommand,
     PlanHoldoutArgs, PlanTrainArgs, ReportFormatArg, SimpleFormatArg,
 };
-use crate::ingest::{columns, IngestError, IngestSettings};
+use crate::ingest::{columns, IngestError, IngestSettings, SkippedFile, SkippedRow};
+use crate::pipeline::StreamLimits;
 use crate::report::{self, AuditDocument, OutputFormat};
 use crate::theory::growth::{self, Family, FamilyParams};
 use crate::theory::{sample_size, vc};
@@ -189,6 +190,12 @@ pub fn run_audit(
                 .into(),
         ));
     }
+    if matches!(format, OutputFormat::Ndjson | OutputFormat::Csv)
+        && options.html.is_none()
+        && options.certificate.is_none()
+    {
+        return run_streaming_audit(spec, options, &audit_settings, &ingest_settings, terminal);
+    }
     let progress = Progress::start(terminal, "reading logs");
     let result = match spec {
         SourceSpec::Paths(paths) => crate::audit_paths_reporting(
@@ -203,23 +210,7 @@ pub fn run_audit(
     };
     progress.finish();
     let doc = result?;
-    if terminal.verbose && !terminal.quiet {
-        use crate::report::table::printable;
-        for skipped in &doc.skipped_files {
-            eprintln!(
-                "skipped {}: {}",
-                printable(&skipped.path),
-                printable(&skipped.reason)
-            );
-        }
-        for skipped in &doc.skipped_rows {
-            eprintln!(
-                "skipped {}: {}",
-                printable(&skipped.source),
-                printable(&skipped.reasons.join("; "))
-            );
-        }
-    }
+    list_skipped(terminal, &doc.skipped_files, &doc.skipped_rows);
 
     if let Some(path) = &options.certificate {
         let paths: Vec<String> = match spec {
@@ -237,6 +228,104 @@ pub fn run_audit(
     Ok(match doc.summary.gate {
         GateResult::Pass => Outcome::Pass,
         GateResult::Fail => Outcome::Fail,
+    })
+}
+
+/// With `-v`, names every skipped file and row on stderr.
+fn list_skipped(terminal: Terminal, files: &[SkippedFile], rows: &[SkippedRow]) {
+    if !terminal.verbose || terminal.quiet {
+        return;
+    }
+    use crate::report::table::printable;
+    for skipped in files {
+        eprintln!(
+            "skipped {}: {}",
+            printable(&skipped.path),
+            printable(&skipped.reason)
+        );
+    }
+    for skipped in rows {
+        eprintln!(
+            "skipped {}: {}",
+            printable(&skipped.source),
+            printable(&skipped.reasons.join("; "))
+        );
+    }
+}
+
+/// An audit whose only output is JSON lines or CSV: streamed batch by batch
+/// ([`crate::pipeline`]), so memory stays bounded and the output is the same as the
+/// in-memory audit's.
+fn run_streaming_audit(
+    spec: &SourceSpec,
+    options: &AuditOptions,
+    audit_settings: &AuditSettings,
+    ingest_settings: &IngestSettings,
+    terminal: Terminal,
+) -> Result<Outcome, AppError> {
+    let format = output_format(options.format);
+    let limits = StreamLimits::default();
+    let progress = Progress::start(terminal, "reading logs");
+    let report_file = |done, total| progress.file_read(done, total);
+    let demo_sources;
+    let prepared = match spec {
+        SourceSpec::Paths(paths) => {
+            crate::pipeline::prepare_paths(paths, ingest_settings, limits, &report_file)
+        }
+        SourceSpec::Demo => {
+            demo_sources = crate::demo::sources();
+            crate::pipeline::prepare(&demo_sources, ingest_settings, limits, &report_file)
+        }
+    };
+    let prepared = match prepared {
+        Ok(prepared) => prepared,
+        Err(error) => {
+            progress.finish();
+            return Err(error.into());
+        }
+    };
+    list_skipped(terminal, &prepared.skipped_files, &prepared.skipped_rows);
+    let started = std::time::Instant::now();
+    let mut summary = None;
+    let stream = |out: &mut dyn Write| -> io::Result<()> {
+        if format == OutputFormat::Csv {
+            report::flat::write_csv_header(out)?;
+        }
+        // A reader that stops early (`| head`) ends the output, not the audit: the
+        // gate still needs every run.
+        let mut closed = false;
+        let mut sink = |runs: &[crate::audit::RunResult]| -> io::Result<()> {
+            if closed {
+                return Ok(());
+            }
+            let written = match format {
+                OutputFormat::Csv => report::flat::write_csv_rows(runs, out),
+                _ => report::flat::write_ndjson(runs, out),
+            };
+            match written {
+                Err(error) if error.kind() == io::ErrorKind::BrokenPipe => {
+                    closed = true;
+                    Ok(())
+                }
+                other => other,
+            }
+        };
+        summary = Some(prepared.audit(audit_settings, false, &mut sink)?);
+        Ok(())
+    };
+    let written = match &options.output {
+        Some(path) => write_file(path, stream),
+        None if terminal.quiet => {
+            stream(&mut io::sink()).map_err(|error| AppError(error.to_string()))
+        }
+        None => write_stdout(stream),
+    };
+    progress.finish();
+    written?;
+    crate::timing("audit + write", started);
+    Ok(match summary.map(|s| s.gate) {
+        Some(GateResult::Pass) => Outcome::Pass,
+        _ => Outcome::Fail,
     })
 }
 

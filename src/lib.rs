@@ -29,6 +29,7 @@ pub mod cli;
 pub mod demo;
 pub mod fuzzing;
 pub mod ingest;
+pub mod pipeline;
 pub mod report;
 pub mod theory;
 

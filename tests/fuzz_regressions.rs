@@ -74,30 +74,79 @@ fn saved_fuzz_crashes_stay_fixed() {
 }
 
 /// Found by fuzzing `ingest_arrow`: an Arrow IPC file whose record batch declares a
-/// buffer of ~2 TB makes polars allocate it, and the allocation failure aborts the
-/// process (an abort cannot be caught). Not fixed yet: the fix is to check every
-/// buffer's extent against the file size before handing the bytes to polars.
-/// Run in a child process so the abort cannot take the test binary down.
+/// buffer of ~2^48 bytes made polars allocate it, and the allocation failure aborted the
+/// process (an abort cannot be caught). Fixed by checking every declared extent against
+/// the file before polars reads it (`src/ingest/preflight.rs`). Run in a child process
+/// so that a regression cannot take the test binary down.
 #[test]
-#[ignore = "known crash, not fixed yet: forged Arrow IPC buffer length aborts on allocation"]
 fn forged_arrow_buffer_length_is_an_input_error() {
-    let output = common::gapcert(&[
-        "audit",
-        "fuzz/known-crashes/ingest_arrow-forged-buffer-length.arrow",
-    ]);
-    assert_eq!(output.status.code(), Some(2), "{}", common::stderr(&output));
+    let path = "fuzz/regressions/ingest_arrow-forged-buffer-length.arrow";
+    let output = common::gapcert(&["audit", path]);
+    let err = common::stderr(&output);
+    assert_eq!(output.status.code(), Some(2), "{err}");
+    assert!(
+        err.contains(&format!(
+            "{path}: cannot read as Arrow IPC: record batch 0 declares a "
+        )) && err.contains("-byte buffer"),
+        "{err}"
+    );
 }
 
-/// Found by fuzzing `ingest_parquet`: a page that declares 2^61 values makes polars
-/// reserve the memory for them and the allocation failure aborts the process. Not
-/// fixed yet: the fix is to check the page and row counts in the metadata against
-/// what the file's size can hold before decoding.
+/// Found by fuzzing `ingest_parquet`: a data page declaring a negative value count
+/// (taken as ~2^64) made polars reserve memory for it, and the allocation failure
+/// aborted the process. Fixed by walking the page headers and checking each page's
+/// counts against its column chunk and row group before polars decodes anything.
 #[test]
-#[ignore = "known crash, not fixed yet: forged Parquet value count aborts on allocation"]
 fn forged_parquet_value_count_is_an_input_error() {
+    let path = "fuzz/regressions/ingest_parquet-forged-value-count.parquet";
+    let output = common::gapcert(&["audit", path]);
+    let err = common::stderr(&output);
+    assert_eq!(output.status.code(), Some(2), "{err}");
+    assert!(
+        err.contains(&format!(
+            "{path}: cannot read as Parquet: page 1 of column `vc_dim` in row group 0 declares -21 values"
+        )),
+        "{err}"
+    );
+}
+
+/// Under `--lenient` a file that fails the pre-flight check is skipped and named, with
+/// the reason, rather than failing the audit or aborting it.
+#[test]
+fn forged_files_are_skipped_under_lenient() {
     let output = common::gapcert(&[
         "audit",
-        "fuzz/known-crashes/ingest_parquet-forged-value-count.parquet",
+        "--lenient",
+        "--format",
+        "json",
+        "fixtures/formats/runs.tsv",
+        "fuzz/regressions/ingest_arrow-forged-buffer-length.arrow",
+        "fuzz/regressions/ingest_parquet-forged-value-count.parquet",
     ]);
-    assert_eq!(output.status.code(), Some(2), "{}", common::stderr(&output));
+    let err = common::stderr(&output);
+    assert!(matches!(output.status.code(), Some(0 | 1)), "{err}");
+    let report = common::stdout(&output);
+    assert!(
+        report.contains("ingest_arrow-forged-buffer-length.arrow")
+            && report.contains("ingest_parquet-forged-value-count.parquet")
+            && report.contains("-byte buffer")
+            && report.contains("declares -21 values"),
+        "{report}"
+    );
+}
+
+/// Found by fuzzing `ingest_parquet`: a malformed Parquet file that polars decodes into
+/// a column shorter than the table (12 values for 20 rows); validation indexed past the
+/// column's end and panicked. Now a file problem naming the column.
+#[test]
+fn parquet_column_shorter_than_table_is_an_input_error() {
+    let path = "fuzz/regressions/ingest_parquet-short-column.parquet";
+    let output = common::gapcert(&["audit", path]);
+    let err = common::stderr(&output);
+    assert_eq!(output.status.code(), Some(2), "{err}");
+    assert!(
+        err.contains(path) && err.contains("holds 12 values but the table has 20 rows"),
+        "{err}"
+    );
+    assert!(!err.contains("panicked"), "{err}");
 }

@@ -1018,6 +1018,7 @@ fn tiny_failure_probabilities_give_finite_bounds() {
                             delta,
                             train_needed: None,
                             defer_holdout_needed: false,
+                            messages: true,
                         };
                         let what =
                             format!("{bound:?} δ={delta:e} K={compared} n={n} k={k} c={claim:?}");

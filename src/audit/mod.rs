@@ -7,54 +7,100 @@ pub mod result;
 pub mod run;
 pub mod settings;
 
-use std::collections::HashMap;
+use std::collections::{HashMap, HashSet};
+use std::sync::Mutex;
 
 use rayon::prelude::*;
 
 pub use result::{Finding, FindingCode, GateResult, RunResult, Summary, Verdict};
 pub use run::{audit_run, holdout_needed_for, RunContext};
+
 pub use settings::{AuditSettings, Gate, HoldoutBound};
 
 use crate::ingest::RunInput;
 use crate::theory::growth::Family;
 use crate::theory::vc;
 
+/// What the audit must know about all runs before it audits any one of them: how many
+/// runs carry a claim (for `--familywise`) and how many share each held-out split
+/// (for K). Built by [`AuditScope::observe`]-ing every run once, so a log too large to
+/// hold in memory can be read twice: once to build the scope, once to audit.
+#[derive(Clone, Debug, Default, PartialEq)]
+pub struct AuditScope {
+    runs: u64,
+    claims: u64,
+    sharing: HashMap<String, u64>,
+}
+
+impl AuditScope {
+    /// The scope of the given runs.
+    pub fn of(inputs: &[RunInput]) -> AuditScope {
+        let mut scope = AuditScope::default();
+        for input in inputs {
+            scope.observe(input);
+        }
+        scope
+    }
+
+    /// Counts one run.
+    pub fn observe(&mut self, input: &RunInput) {
+        self.runs += 1;
+        if input.claim_error_rate.is_some() {
+            self.claims += 1;
+        }
+        if let Some(split) = input.holdout_set.as_deref() {
+            match self.sharing.get_mut(split) {
+                Some(count) => *count += 1,
+                None => {
+                    self.sharing.insert(split.to_string(), 1);
+                }
+            }
+        }
+    }
+
+    /// Adds the counts of another scope (of other runs).
+    pub fn merge(&mut self, other: AuditScope) {
+        self.runs += other.runs;
+        self.claims += other.claims;
+        for (split, count) in other.sharing {
+            *self.sharing.entry(split).or_insert(0) += count;
+        }
+    }
+
+    /// δ after the family-wise (Bonferroni) division, when asked for.
+    pub fn delta(&self, settings: &AuditSettings) -> f64 {
+        let delta = settings.delta();
+        if settings.familywise {
+            delta / self.claims.max(1) as f64
+        } else {
+            delta
+        }
+    }
+
+    /// K for one run: max(candidates, runs sharing the run's held-out split).
+    pub fn compared(&self, input: &RunInput, settings: &AuditSettings) -> u64 {
+        let shared = if settings.same_holdout {
+            self.runs
+        } else {
+            input
+                .holdout_set
+                .as_deref()
+                .and_then(|split| self.sharing.get(split).copied())
+                .unwrap_or(1)
+        };
+        input.candidates.max(shared)
+    }
+}
+
 /// δ after the family-wise (Bonferroni) division, when asked for.
 pub fn familywise_delta(inputs: &[RunInput], settings: &AuditSettings) -> f64 {
-    let delta = settings.delta();
-    if !settings.familywise {
-        return delta;
-    }
-    let claims = inputs
-        .iter()
-        .filter(|r| r.claim_error_rate.is_some())
-        .count();
-    delta / claims.max(1) as f64
+    AuditScope::of(inputs).delta(settings)
 }
 
 /// K per run: max(candidates, runs sharing the run's held-out split).
 pub fn compared_counts(inputs: &[RunInput], settings: &AuditSettings) -> Vec<u64> {
-    if settings.same_holdout {
-        let all = inputs.len() as u64;
-        return inputs.iter().map(|r| r.candidates.max(all)).collect();
-    }
-    let mut sharing: HashMap<&str, u64> = HashMap::new();
-    for input in inputs {
-        if let Some(split) = input.holdout_set.as_deref() {
-            *sharing.entry(split).or_insert(0) += 1;
-        }
-    }
-    inputs
-        .iter()
-        .map(|r| {
-            let shared = r
-                .holdout_set
-                .as_deref()
-                .and_then(|split| sharing.get(split).copied())
-                .unwrap_or(1);
-            r.candidates.max(shared)
-        })
-        .collect()
+    let scope = AuditScope::of(inputs);
+    inputs.iter().map(|r| scope.compared(r, settings)).collect()
 }
 
 /// Audits every run (in parallel; the result order is the input order).
@@ -65,102 +111,143 @@ pub fn audit_runs(inputs: &[RunInput], settings: &AuditSettings) -> Vec<RunResul
 /// [`audit_runs`] for callers that no longer need the inputs: strings are moved, not
 /// copied.
 pub fn audit_runs_owned(inputs: Vec<RunInput>, settings: &AuditSettings) -> Vec<RunResult> {
-    let delta = familywise_delta(&inputs, settings);
-    let compared = compared_counts(&inputs, settings);
+    let scope = AuditScope::of(&inputs);
+    Auditor::new(&scope, settings).audit(inputs)
+}
 
-    // train_needed depends only on the family, δ and the tolerance: solve once per
-    // distinct family, in parallel (a sweep over many sizes has many families).
-    let started = std::time::Instant::now();
-    let mut distinct: HashMap<FamilyId, Family> = HashMap::new();
-    for family in inputs.iter().filter_map(|r| r.family) {
-        distinct.entry(FamilyId::of(&family)).or_insert(family);
-    }
-    let train_needed: HashMap<FamilyId, Option<u64>> = distinct
-        .into_par_iter()
-        .map(|(id, family)| (id, vc::train_needed(&family, settings.tolerance, delta)))
-        .collect();
-    crate::timing("  train_needed per family", started);
+/// Audits batches of runs against one [`AuditScope`]. The solutions that many runs
+/// share (`train_needed` per family, `holdout_needed` per (rate, claim, δ/K)) are
+/// remembered across batches. Each run's result depends only on the run, the scope
+/// and the settings, so the batches' results equal a single audit of all runs.
+pub struct Auditor<'a> {
+    settings: &'a AuditSettings,
+    scope: &'a AuditScope,
+    delta: f64,
+    train_needed: Mutex<HashMap<FamilyId, Option<u64>>>,
+    holdout_needed: Mutex<HashMap<ClaimKey, Option<u64>>>,
+    messages: bool,
+}
 
-    let mut results: Vec<RunResult> = inputs
-        .into_par_iter()
-        .zip(compared.into_par_iter())
-        .map(|(input, compared)| {
-            let context = RunContext {
-                compared,
-                delta,
-                train_needed: input
-                    .family
-                    .and_then(|f| train_needed.get(&FamilyId::of(&f)).copied().flatten()),
-                defer_holdout_needed: true,
-            };
-            audit_run(input, context, settings)
-        })
-        .collect();
+/// (observed rate, claimed error rate, δ/K) as bits: the inputs of `holdout_needed`.
+type ClaimKey = (u64, u64, u64);
 
-    // holdout_needed is a search over n (dozens of inversions); sweeps repeat the same
-    // (rate, claim, δ/K), so solve each distinct one once, in parallel.
-    let started = std::time::Instant::now();
-    let key = |r: &RunResult| -> Option<(u64, u64, u64)> {
-        match (r.verdict, r.claim_error_rate) {
-            (Verdict::Unproven, Some(claim)) if r.holdout_error_rate < claim => Some((
-                r.holdout_error_rate.to_bits(),
-                claim.to_bits(),
-                r.delta.to_bits(),
-            )),
-            _ => None,
-        }
-    };
-    let distinct: std::collections::HashSet<(u64, u64, u64)> =
-        results.iter().filter_map(key).collect();
-    let solved: HashMap<(u64, u64, u64), Option<u64>> = distinct
-        .into_par_iter()
-        .map(|k @ (rate, claim, alpha)| {
-            let needed = holdout_needed_for(
-                Verdict::Unproven,
-                f64::from_bits(rate),
-                Some(f64::from_bits(claim)),
-                f64::from_bits(alpha),
-                settings.holdout_bound,
-            );
-            (k, needed)
-        })
-        .collect();
-    for result in &mut results {
-        if let Some(k) = key(result) {
-            result.holdout_needed = solved.get(&k).copied().flatten();
+impl<'a> Auditor<'a> {
+    pub fn new(scope: &'a AuditScope, settings: &'a AuditSettings) -> Auditor<'a> {
+        Auditor {
+            settings,
+            scope,
+            delta: scope.delta(settings),
+            train_needed: Mutex::new(HashMap::new()),
+            holdout_needed: Mutex::new(HashMap::new()),
+            messages: true,
         }
     }
-    crate::timing("  holdout_needed per distinct claim", started);
-    results
+
+    /// Findings with codes and empty messages (see [`RunContext::messages`]).
+    pub fn codes_only(mut self) -> Self {
+        self.messages = false;
+        self
+    }
+
+    /// Audits one batch (in parallel; the result order is the input order).
+    pub fn audit(&self, inputs: Vec<RunInput>) -> Vec<RunResult> {
+        let settings = self.settings;
+        let delta = self.delta;
+
+        // train_needed depends only on the family, δ and the tolerance: solve once per
+        // distinct family, in parallel (a sweep over many sizes has many families).
+        let started = std::time::Instant::now();
+        let train_needed = {
+            let mut known = lock(&self.train_needed);
+            let mut missing: HashMap<FamilyId, Family> = HashMap::new();
+            for family in inputs.iter().filter_map(|r| r.family) {
+                let id = FamilyId::of(&family);
+                if !known.contains_key(&id) {
+                    missing.entry(id).or_insert(family);
+                }
+            }
+            let solved: Vec<(FamilyId, Option<u64>)> = missing
+                .into_par_iter()
+                .map(|(id, family)| (id, vc::train_needed(&family, settings.tolerance, delta)))
+                .collect();
+            known.extend(solved);
+            known.clone()
+        };
+        crate::timing("  train_needed per family", started);
+
+        let mut results: Vec<RunResult> = inputs
+            .into_par_iter()
+            .map(|input| {
+                let context = RunContext {
+                    compared: self.scope.compared(&input, settings),
+                    delta,
+                    train_needed: input
+                        .family
+                        .and_then(|f| train_needed.get(&FamilyId::of(&f)).copied().flatten()),
+                    defer_holdout_needed: true,
+                    messages: self.messages,
+                };
+                audit_run(input, context, settings)
+            })
+            .collect();
+
+        // holdout_needed is a search over n (dozens of inversions); sweeps repeat the
+        // same (rate, claim, δ/K), so solve each distinct one once, in parallel.
+        let started = std::time::Instant::now();
+        let key = |r: &RunResult| -> Option<ClaimKey> {
+            match (r.verdict, r.claim_error_rate) {
+                (Verdict::Unproven, Some(claim)) if r.holdout_error_rate < claim => Some((
+                    r.holdout_error_rate.to_bits(),
+                    claim.to_bits(),
+                    r.delta.to_bits(),
+                )),
+                _ => None,
+            }
+        };
+        let mut known = lock(&self.holdout_needed);
+        let missing: HashSet<ClaimKey> = results
+            .iter()
+            .filter_map(key)
+            .filter(|k| !known.contains_key(k))
+            .collect();
+        let solved: Vec<(ClaimKey, Option<u64>)> = missing
+            .into_par_iter()
+            .map(|k @ (rate, claim, alpha)| {
+                let needed = holdout_needed_for(
+                    Verdict::Unproven,
+                    f64::from_bits(rate),
+                    Some(f64::from_bits(claim)),
+                    f64::from_bits(alpha),
+                    settings.holdout_bound,
+                );
+                (k, needed)
+            })
+            .collect();
+        known.extend(solved);
+        for result in &mut results {
+            if let Some(k) = key(result) {
+                result.holdout_needed = known.get(&k).copied().flatten();
+            }
+        }
+        crate::timing("  holdout_needed per distinct claim", started);
+        results
+    }
+}
+
+/// Locks a cache; a poisoned lock (a panic elsewhere) still holds valid entries.
+fn lock<T>(mutex: &Mutex<T>) -> std::sync::MutexGuard<'_, T> {
+    mutex
+        .lock()
+        .unwrap_or_else(|poisoned| poisoned.into_inner())
 }
 
 /// Counts verdicts and applies the gate.
 pub fn summarize(results: &[RunResult], gate: Gate) -> Summary {
-    let mut summary = Summary {
-        runs: results.len(),
-        ..Summary::default()
-    };
+    let mut summary = Summary::default();
     for result in results {
-        match result.verdict {
-            Verdict::Certified => summary.certified += 1,
-            Verdict::Unproven => summary.unproven += 1,
-            Verdict::Refuted => summary.refuted += 1,
-            Verdict::NoClaim => summary.no_claim += 1,
-        }
-        if result.holdout_set.is_none() && result.candidates == 1 {
-            summary.reuse_unchecked += 1;
-        }
+        summary.count(result);
     }
-    let fails = match gate {
-        Gate::Unproven => summary.unproven + summary.refuted > 0,
-        Gate::Refuted => summary.refuted > 0,
-        Gate::Never => false,
-    };
-    summary.gate = if fails {
-        GateResult::Fail
-    } else {
-        GateResult::Pass
-    };
+    summary.apply_gate(gate);
     summary
 }
 

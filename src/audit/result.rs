@@ -127,6 +127,36 @@ pub struct Summary {
     pub gate: GateResult,
 }
 
+impl Summary {
+    /// Counts one audited run.
+    pub fn count(&mut self, result: &RunResult) {
+        self.runs += 1;
+        match result.verdict {
+            Verdict::Certified => self.certified += 1,
+            Verdict::Unproven => self.unproven += 1,
+            Verdict::Refuted => self.refuted += 1,
+            Verdict::NoClaim => self.no_claim += 1,
+        }
+        if result.holdout_set.is_none() && result.candidates == 1 {
+            self.reuse_unchecked += 1;
+        }
+    }
+
+    /// Sets `gate` from the counts.
+    pub fn apply_gate(&mut self, gate: super::Gate) {
+        let fails = match gate {
+            super::Gate::Unproven => self.unproven + self.refuted > 0,
+            super::Gate::Refuted => self.refuted > 0,
+            super::Gate::Never => false,
+        };
+        self.gate = if fails {
+            GateResult::Fail
+        } else {
+            GateResult::Pass
+        };
+    }
+}
+
 #[derive(Clone, Copy, Debug, Default, PartialEq, Eq, Serialize, Deserialize)]
 #[serde(rename_all = "lowercase")]
 pub enum GateResult {

@@ -17,6 +17,10 @@ pub struct RunContext {
     /// Leave `holdout_needed` empty: the caller fills it once per distinct
     /// (rate, claim, δ/K) with [`holdout_needed_for`], since sweeps repeat them.
     pub defer_holdout_needed: bool,
+    /// Write each finding's sentence. Without it the findings carry their codes and
+    /// empty messages: the flat formats print codes only, and formatting the numbers
+    /// of a million sentences nobody reads costs more than some of the math.
+    pub messages: bool,
 }
 
 /// `holdout_needed` (SPEC §4): null unless the claim is unproven and the observed rate
@@ -94,39 +98,45 @@ pub fn audit_run(input: RunInput, context: RunContext, settings: &AuditSettings)
     };
 
     let mut findings = Vec::new();
-    if compared > 1 {
+    let mut note = |code: FindingCode, message: &dyn Fn() -> String| {
         findings.push(Finding {
-            code: FindingCode::HoldoutReused,
-            message: format!(
+            code,
+            message: if context.messages {
+                message()
+            } else {
+                String::new()
+            },
+        });
+    };
+    if compared > 1 {
+        note(FindingCode::HoldoutReused, &|| {
+            format!(
                 "{compared} models were compared on this held-out split, so each bound holds at level δ/{compared} = {delta_per_run:.3e}"
-            ),
+            )
         });
     }
     let width = binomial_interval.1 - binomial_interval.0;
     if width > settings.max_width {
-        findings.push(Finding {
-            code: FindingCode::HoldoutSmall,
-            message: format!(
+        note(FindingCode::HoldoutSmall, &|| {
+            format!(
                 "the two-sided binomial interval is {:.1} points wide (limit {:.1}); {n} held-out examples are too few for a precise estimate",
                 width * 100.0,
                 settings.max_width * 100.0
-            ),
+            )
         });
     }
     match theory {
         Some((_, allowance, train_rate, _)) => {
             if lower - train_rate > allowance {
-                findings.push(Finding {
-                    code: FindingCode::GapBeyondTheory,
-                    message: format!(
+                note(FindingCode::GapBeyondTheory, &|| {
+                    format!(
                         "even the lower bound {lower:.4} exceeds training error {train_rate:.4} by more than the VC allowance {allowance:.4}: suspect distribution shift, leakage or wrong family parameters"
-                    ),
+                    )
                 });
             }
             if train_rate + allowance >= 1.0 {
-                findings.push(Finding {
-                    code: FindingCode::TheoryVacuous,
-                    message: format!(
+                note(FindingCode::TheoryVacuous, &|| {
+                    format!(
                         "the VC bound {:.3} is at least 1, so the training data alone guarantee nothing; {} would need about {} training examples for an allowance of {}",
                         train_rate + allowance,
                         input.family_key.as_deref().unwrap_or("this family"),
@@ -135,23 +145,22 @@ pub fn audit_run(input: RunInput, context: RunContext, settings: &AuditSettings)
                             .map(|n| n.to_string())
                             .unwrap_or_else(|| "an unbounded number of".to_string()),
                         settings.tolerance
-                    ),
+                    )
                 });
             }
         }
         None => {
-            let reason = match (&input.family_key, input.family) {
-                (None, _) => "no model family is logged".to_string(),
-                (Some(key), None) => {
-                    format!("family `{key}` has no known growth bound (see `gapcert families`)")
-                }
-                (Some(_), Some(_)) => {
-                    "the training size or training error is not logged".to_string()
-                }
-            };
-            findings.push(Finding {
-                code: FindingCode::TheoryUnavailable,
-                message: format!("no VC bound: {reason}"),
+            note(FindingCode::TheoryUnavailable, &|| {
+                let reason = match (&input.family_key, input.family) {
+                    (None, _) => "no model family is logged".to_string(),
+                    (Some(key), None) => {
+                        format!("family `{key}` has no known growth bound (see `gapcert families`)")
+                    }
+                    (Some(_), Some(_)) => {
+                        "the training size or training error is not logged".to_string()
+                    }
+                };
+                format!("no VC bound: {reason}")
             });
         }
     }
@@ -159,20 +168,18 @@ pub fn audit_run(input: RunInput, context: RunContext, settings: &AuditSettings)
     if let (Some(train_n), Some(train_rate)) = (input.train_n, input.train_error_rate) {
         let training_margin = ((1.0 / delta).ln() / (2.0 * train_n as f64)).sqrt();
         if upper < train_rate - training_margin {
-            findings.push(Finding {
-                code: FindingCode::HoldoutEasierThanTrain,
-                message: format!(
+            note(FindingCode::HoldoutEasierThanTrain, &|| {
+                format!(
                     "held-out error is significantly below training error (upper bound {upper:.4} < {train_rate:.4} − {training_margin:.4}): check the split, the logging, or leakage into the held-out set"
-                ),
+                )
             });
         }
     }
     if input.misclassified_derived {
-        findings.push(Finding {
-            code: FindingCode::MisclassifiedDerived,
-            message: format!(
+        note(FindingCode::MisclassifiedDerived, &|| {
+            format!(
                 "the held-out count {k} was derived as round(rate × n) from the logged rate; the binomial bound uses it"
-            ),
+            )
         });
     }
     RunResult {

@@ -6,6 +6,7 @@
 //! an audit must never allow. Parsing ourselves also gives the exact record of a
 //! truncated or malformed line.
 
+use std::borrow::Cow;
 use std::io::Cursor;
 use std::panic::{catch_unwind, AssertUnwindSafe};
 use std::sync::atomic::{AtomicUsize, Ordering};
@@ -28,6 +29,7 @@ pub fn read_table(
     if bytes.is_empty() {
         return Err(vec![Problem::file(label, "the file is empty")]);
     }
+    super::preflight::check(label, bytes, format)?;
     match format {
         LogFormat::Csv => read_delimited(label, bytes, b',').map(|df| (df, Vec::new())),
         LogFormat::Tsv => read_delimited(label, bytes, b'\t').map(|df| (df, Vec::new())),
@@ -44,6 +46,127 @@ pub fn read_table(
     }
 }
 
+/// A log's table, read in batches of rows.
+pub enum LogTable<'a> {
+    /// Read whole (CSV, TSV, JSON, JSON lines, Arrow IPC), with the problems found
+    /// while parsing cells (JSON), numbered by file row.
+    Frame(DataFrame, Vec<Problem>),
+    /// Parquet: only the footer is read up front and row groups are decoded when asked
+    /// for, so a log larger than memory can be audited batch by batch.
+    Parquet {
+        bytes: Cow<'a, [u8]>,
+        metadata: FileMetadataRef,
+    },
+}
+
+/// The problems of rows `offset + 1 ..= offset + length`, renumbered from 1; problems
+/// of no row go with the range that starts at 0.
+pub fn problems_within(problems: &[Problem], offset: usize, length: usize) -> Vec<Problem> {
+    problems
+        .iter()
+        .filter_map(|problem| match problem.row {
+            Some(row) if row > offset && row <= offset + length => Some(Problem {
+                row: Some(row - offset),
+                ..problem.clone()
+            }),
+            None | Some(0) if offset == 0 => Some(problem.clone()),
+            _ => None,
+        })
+        .collect()
+}
+
+/// Opens a Parquet file: reads its footer; row groups are decoded by
+/// [`LogTable::rows`].
+pub fn open_parquet<'a>(label: &str, bytes: Cow<'a, [u8]>) -> Result<LogTable<'a>, Vec<Problem>> {
+    if bytes.is_empty() {
+        return Err(vec![Problem::file(label, "the file is empty")]);
+    }
+    super::preflight::check(label, &bytes, LogFormat::Parquet)?;
+    let metadata = guarded(label, "Parquet", || {
+        ParquetReader::new(Cursor::new(&bytes[..]))
+            .get_metadata()
+            .cloned()
+    })?;
+    Ok(LogTable::Parquet { bytes, metadata })
+}
+
+impl LogTable<'_> {
+    /// Data rows in the table.
+    pub fn height(&self) -> usize {
+        match self {
+            LogTable::Frame(df, _) => df.height(),
+            LogTable::Parquet { metadata, .. } => metadata.num_rows,
+        }
+    }
+
+    /// Row ranges (offset, length) that cover the table in order, each of about
+    /// `batch_rows` rows; Parquet ranges hold whole row groups. An empty table has one
+    /// empty range, so its columns are still checked.
+    pub fn batches(&self, batch_rows: usize) -> Vec<(usize, usize)> {
+        let batch_rows = batch_rows.max(1);
+        let height = self.height();
+        let mut ranges = Vec::new();
+        match self {
+            LogTable::Frame(..) => {
+                let mut offset = 0;
+                while offset < height {
+                    let length = batch_rows.min(height - offset);
+                    ranges.push((offset, length));
+                    offset += length;
+                }
+            }
+            LogTable::Parquet { metadata, .. } => {
+                let (mut offset, mut length) = (0, 0);
+                for group in &metadata.row_groups {
+                    length += group.num_rows();
+                    if length >= batch_rows {
+                        ranges.push((offset, length));
+                        offset += length;
+                        length = 0;
+                    }
+                }
+                if length > 0 {
+                    ranges.push((offset, length));
+                }
+            }
+        }
+        if ranges.is_empty() {
+            ranges.push((0, 0));
+        }
+        ranges
+    }
+
+    /// Rows `offset .. offset + length` as a DataFrame, with the parse problems of
+    /// those rows numbered from 1 within the batch (problems of no row come with the
+    /// first batch).
+    pub fn rows(
+        &self,
+        label: &str,
+        offset: usize,
+        length: usize,
+    ) -> Result<(DataFrame, Vec<Problem>), Vec<Problem>> {
+        match self {
+            LogTable::Frame(df, problems) => {
+                let batch = if offset == 0 && length >= df.height() {
+                    df.clone()
+                } else {
+                    df.slice(offset as i64, length)
+                };
+                Ok((batch, problems_within(problems, offset, length)))
+            }
+            LogTable::Parquet { bytes, metadata } => {
+                let df = guarded(label, "Parquet", || {
+                    let mut reader = ParquetReader::new(Cursor::new(&bytes[..]))
+                        .with_slice(Some((offset, length)));
+                    reader.set_metadata(metadata.clone());
+                    reader.finish()
+                })?;
+                Ok((df, Vec::new()))
+            }
+        }
+    }
+}
+
 fn strip_bom(bytes: &[u8]) -> &[u8] {
     bytes.strip_prefix(UTF8_BOM).unwrap_or(bytes)
 }
@@ -56,15 +179,15 @@ pub static GUARDED_READERS: AtomicUsize = AtomicUsize::new(0);
 /// the file. Fuzzing found malformed Parquet that trips an assertion inside polars
 /// (fuzz/regressions/ingest_parquet-bitmap-offset); a bad input file must be reported,
 /// never crash the audit.
-fn guarded<F>(label: &str, kind: &str, read: F) -> Result<DataFrame, Vec<Problem>>
+fn guarded<T, F>(label: &str, kind: &str, read: F) -> Result<T, Vec<Problem>>
 where
-    F: FnOnce() -> PolarsResult<DataFrame>,
+    F: FnOnce() -> PolarsResult<T>,
 {
     GUARDED_READERS.fetch_add(1, Ordering::SeqCst);
     let outcome = catch_unwind(AssertUnwindSafe(read));
     GUARDED_READERS.fetch_sub(1, Ordering::SeqCst);
     match outcome {
-        Ok(Ok(df)) => Ok(df),
+        Ok(Ok(value)) => Ok(value),
         Ok(Err(error)) => Err(vec![Problem::file(
             label,
             format!("cannot read as {kind}: {}", polars_message(&error)),

@@ -7,10 +7,12 @@
 pub mod columns;
 pub mod discover;
 pub mod formats;
+mod preflight;
 pub mod problem;
 pub mod rows;
 pub mod settings;
 
+use std::borrow::Cow;
 use std::path::PathBuf;
 
 use rayon::prelude::*;
@@ -109,13 +111,20 @@ pub fn read_paths_reporting(
         .map(|log| LogSource::Path(log.path.clone(), log.format))
         .collect();
     let mut outcome = read_sources_reporting(&sources, settings, progress)?;
-    outcome
+    outcome.skipped_files.extend(not_log_files(&discovery));
+    Ok(outcome)
+}
+
+/// The files in the given folders that are not logs, as skipped files.
+pub fn not_log_files(discovery: &Discovery) -> Vec<SkippedFile> {
+    discovery
         .skipped_files
-        .extend(discovery.skipped_files.iter().map(|path| SkippedFile {
+        .iter()
+        .map(|path| SkippedFile {
             path: path.display().to_string(),
             reason: "not a log file type".to_string(),
-        }));
-    Ok(outcome)
+        })
+        .collect()
 }
 
 /// Reads the given sources; files are read in parallel and their results kept in order.
@@ -134,27 +143,67 @@ pub fn read_sources_reporting(
 ) -> Result<IngestOutcome, IngestError> {
     columns::check_column_map(&settings.column_map).map_err(IngestError::Usage)?;
     let done = std::sync::atomic::AtomicUsize::new(0);
-    let per_file: Vec<FileResult> = sources
+    let per_file: Vec<(OpenedLog, Vec<RunInput>, FileReport)> = sources
         .par_iter()
         .map(|source| {
-            let result = read_one(source, settings);
+            let log = OpenedLog::open(source);
+            let mut runs = Vec::new();
+            let report = log.validate(settings, usize::MAX, &mut |batch| {
+                runs.extend(batch);
+                true
+            });
             let finished = done.fetch_add(1, std::sync::atomic::Ordering::Relaxed) + 1;
             progress(finished, sources.len());
-            result
+            (log, runs, report)
         })
         .collect();
 
     let mut outcome = IngestOutcome::default();
-    let mut problems = Vec::new();
-    for file in per_file {
-        if let Some(input) = file.input {
-            outcome.inputs.push(input);
+    let mut collected = Collected::default();
+    for (log, runs, report) in per_file {
+        if collected.add(&log, report, settings.lenient) {
+            outcome.runs.extend(runs);
         }
-        if !file.file_problems.is_empty() {
-            if settings.lenient {
-                outcome.skipped_files.push(SkippedFile {
-                    path: file.label.clone(),
-                    reason: file
+    }
+    collected.finish(sources, outcome.runs.len())?;
+    outcome.inputs = collected.inputs;
+    outcome.skipped_rows = collected.skipped_rows;
+    outcome.skipped_files = collected.skipped_files;
+    Ok(outcome)
+}
+
+/// What validating one file found besides its runs.
+#[derive(Debug, Default)]
+pub struct FileReport {
+    /// Problems per bad row (file row numbers), in row order.
+    pub bad_rows: Vec<(usize, Vec<Problem>)>,
+    /// Problems with the file as a whole; when any, the file yields no runs.
+    pub file_problems: Vec<Problem>,
+}
+
+/// The inputs, skipped rows and files, and problems of several files, in file order.
+#[derive(Debug, Default)]
+pub struct Collected {
+    pub inputs: Vec<InputFile>,
+    pub skipped_rows: Vec<SkippedRow>,
+    pub skipped_files: Vec<SkippedFile>,
+    pub problems: Vec<Problem>,
+}
+
+impl Collected {
+    /// Records one file's report: under `--lenient` bad rows are skipped rows and an
+    /// unusable file is a skipped file; otherwise both are problems. Returns whether
+    /// the file's runs are to be audited.
+    pub fn add(&mut self, log: &OpenedLog<'_>, report: FileReport, lenient: bool) -> bool {
+        if let Some(input) = &log.input {
+            self.inputs.push(input.clone());
+        }
+        let usable = report.file_problems.is_empty();
+        if !usable {
+            if lenient {
+                self.skipped_files.push(SkippedFile {
+                    path: log.label.clone(),
+                    reason: report
                         .file_problems
                         .iter()
                         .map(|p| p.message.clone())
@@ -162,114 +211,176 @@ pub fn read_sources_reporting(
                         .join("; "),
                 });
             } else {
-                problems.extend(file.file_problems);
+                self.problems.extend(report.file_problems);
             }
         }
-        for (row, row_problems) in file.bad_rows {
-            if settings.lenient {
-                outcome.skipped_rows.push(SkippedRow {
-                    source: format!("{}:{row}", file.label),
+        for (row, row_problems) in report.bad_rows {
+            if lenient {
+                self.skipped_rows.push(SkippedRow {
+                    source: format!("{}:{row}", log.label),
                     reasons: row_problems.iter().map(|p| p.message.clone()).collect(),
                 });
             } else {
-                problems.extend(row_problems);
+                self.problems.extend(row_problems);
             }
         }
-        outcome.runs.extend(file.runs);
+        usable
     }
-    if !problems.is_empty() {
-        return Err(IngestError::Invalid(problems));
+
+    /// Fails with every problem found, or when no run at all could be used.
+    pub fn finish(&mut self, sources: &[LogSource<'_>], runs: usize) -> Result<(), IngestError> {
+        if !self.problems.is_empty() {
+            return Err(IngestError::Invalid(std::mem::take(&mut self.problems)));
+        }
+        if runs == 0 {
+            return Err(IngestError::Invalid(vec![Problem {
+                file: sources.first().map(source_label).unwrap_or_default(),
+                row: None,
+                column: None,
+                message: "no usable runs were found in the given logs".to_string(),
+            }]));
+        }
+        Ok(())
     }
-    if outcome.runs.is_empty() {
-        return Err(IngestError::Invalid(vec![Problem {
-            file: sources.first().map(source_label).unwrap_or_default(),
-            row: None,
-            column: None,
-            message: "no usable runs were found in the given logs".to_string(),
-        }]));
-    }
-    Ok(outcome)
 }
 
-struct FileResult {
-    label: String,
-    input: Option<InputFile>,
-    runs: Vec<RunInput>,
-    bad_rows: Vec<(usize, Vec<Problem>)>,
-    file_problems: Vec<Problem>,
+/// One log file opened for an audit: its identity and hash, and its table, which is
+/// validated batch by batch.
+pub struct OpenedLog<'a> {
+    pub label: String,
+    /// None when the file could not be read at all.
+    pub input: Option<InputFile>,
+    table: Result<formats::LogTable<'a>, Vec<Problem>>,
+}
+
+impl<'a> OpenedLog<'a> {
+    /// Reads and hashes the file, and parses it (Parquet: only its footer).
+    pub fn open(source: &LogSource<'a>) -> OpenedLog<'a> {
+        let label = source_label(source);
+        let bytes: Cow<'a, [u8]> = match source {
+            LogSource::Path(path, _) => match std::fs::read(path) {
+                Ok(read) => Cow::Owned(read),
+                Err(error) => {
+                    let problem = Problem::file(
+                        &label,
+                        format!("cannot read ({})", discover::describe_io_error(&error)),
+                    );
+                    return OpenedLog {
+                        label,
+                        input: None,
+                        table: Err(vec![problem]),
+                    };
+                }
+            },
+            LogSource::Memory(_, bytes, _) => Cow::Borrowed(*bytes),
+        };
+        let format = match source {
+            LogSource::Path(_, format) | LogSource::Memory(_, _, format) => *format,
+        };
+        // Hash while polars parses: both walk the whole file.
+        let started = std::time::Instant::now();
+        let size = bytes.len() as u64;
+        let (sha256, table) = if matches!(format, LogFormat::Parquet) {
+            // Only the footer is parsed now; the bytes stay for the row groups.
+            let sha256 = hex(&Sha256::digest(&bytes));
+            (sha256, formats::open_parquet(&label, bytes))
+        } else {
+            rayon::join(
+                || hex(&Sha256::digest(&bytes)),
+                || {
+                    formats::read_table(&label, &bytes, format)
+                        .map(|(df, problems)| formats::LogTable::Frame(df, problems))
+                },
+            )
+        };
+        crate::timing("  parse + hash", started);
+        let rows = table.as_ref().map(|t| t.height()).unwrap_or(0);
+        OpenedLog {
+            input: Some(InputFile {
+                path: label.clone(),
+                size,
+                sha256,
+                rows,
+            }),
+            label,
+            table,
+        }
+    }
+
+    /// Data rows in the file (0 when it could not be parsed).
+    pub fn rows(&self) -> usize {
+        self.table.as_ref().map(|t| t.height()).unwrap_or(0)
+    }
+
+    /// Validates the file in batches of about `batch_rows` rows, in order, handing
+    /// each batch's runs to `each`, which returns whether to go on. Stops at the first
+    /// problem with the file as a whole (such a file yields no usable runs).
+    pub fn validate(
+        &self,
+        settings: &IngestSettings,
+        batch_rows: usize,
+        each: &mut dyn FnMut(Vec<RunInput>) -> bool,
+    ) -> FileReport {
+        let mut report = FileReport::default();
+        let table = match &self.table {
+            Ok(table) => table,
+            Err(problems) => {
+                report.file_problems = problems.clone();
+                return report;
+            }
+        };
+        if table.height() == 0 {
+            report.file_problems.push(Problem::file(
+                &self.label,
+                "the file has a header but no runs",
+            ));
+        }
+        let started = std::time::Instant::now();
+        // A Parquet range is a whole row group, which may hold far more than
+        // `batch_rows` rows: it is decoded once and validated in slices.
+        let batch_rows = batch_rows.max(1);
+        'ranges: for (offset, length) in table.batches(batch_rows) {
+            let (df, cell_problems) = match table.rows(&self.label, offset, length) {
+                Ok(read) => read,
+                Err(problems) => {
+                    report.file_problems.extend(problems);
+                    break;
+                }
+            };
+            let mut start = 0;
+            loop {
+                let length = batch_rows.min(df.height() - start);
+                let slice = if start == 0 && length == df.height() {
+                    df.clone()
+                } else {
+                    df.slice(start as i64, length)
+                };
+                let problems = formats::problems_within(&cell_problems, start, length);
+                let batch =
+                    rows::table_runs(&self.label, &slice, offset + start, settings, problems);
+                report.bad_rows.extend(batch.bad_rows);
+                report.file_problems.extend(batch.file_problems);
+                if !report.file_problems.is_empty() {
+                    break 'ranges;
+                }
+                if !batch.runs.is_empty() && !each(batch.runs) {
+                    break 'ranges;
+                }
+                start += length;
+                if start >= df.height() {
+                    break;
+                }
+            }
+        }
+        crate::timing("  validate", started);
+        report
+    }
 }
 
 fn source_label(source: &LogSource<'_>) -> String {
     match source {
         LogSource::Path(path, _) => path.display().to_string(),
         LogSource::Memory(label, _, _) => label.to_string(),
-    }
-}
-
-fn read_one(source: &LogSource<'_>, settings: &IngestSettings) -> FileResult {
-    let label = source_label(source);
-    let owned;
-    let (bytes, format): (&[u8], LogFormat) = match source {
-        LogSource::Path(path, format) => match std::fs::read(path) {
-            Ok(read) => {
-                owned = read;
-                (&owned, *format)
-            }
-            Err(error) => {
-                return FileResult {
-                    file_problems: vec![Problem::file(
-                        &label,
-                        format!("cannot read ({})", discover::describe_io_error(&error)),
-                    )],
-                    label,
-                    input: None,
-                    runs: Vec::new(),
-                    bad_rows: Vec::new(),
-                }
-            }
-        },
-        LogSource::Memory(_, bytes, format) => (bytes, *format),
-    };
-    // Hash while polars parses: both walk the whole file.
-    let started = std::time::Instant::now();
-    let (sha256, table) = rayon::join(
-        || hex(&Sha256::digest(bytes)),
-        || formats::read_table(&label, bytes, format),
-    );
-    crate::timing("  parse + hash", started);
-    let started = std::time::Instant::now();
-    let mut input = InputFile {
-        path: label.clone(),
-        size: bytes.len() as u64,
-        sha256,
-        rows: 0,
-    };
-    let (df, cell_problems) = match table {
-        Ok(table) => table,
-        Err(file_problems) => {
-            return FileResult {
-                label,
-                input: Some(input),
-                runs: Vec::new(),
-                bad_rows: Vec::new(),
-                file_problems,
-            }
-        }
-    };
-    input.rows = df.height();
-    let mut file_problems = Vec::new();
-    if df.height() == 0 {
-        file_problems.push(Problem::file(&label, "the file has a header but no runs"));
-    }
-    let table = rows::table_runs(&label, &df, settings, cell_problems);
-    crate::timing("  validate", started);
-    file_problems.extend(table.file_problems);
-    FileResult {
-        label,
-        input: Some(input),
-        runs: table.runs,
-        bad_rows: table.bad_rows,
-        file_problems,
     }
 }
 

@@ -37,10 +37,13 @@ pub struct TableRuns {
     pub file_problems: Vec<Problem>,
 }
 
-/// Reads every run of `df`. `label` names the file in `source` and in problems.
+/// Reads every run of `df`, a batch of rows that starts after `row_offset` rows of
+/// its file. `label` names the file in `source` and in problems; `cell_problems` are
+/// numbered within the batch, and every row number that comes out is the file's.
 pub fn table_runs(
     label: &str,
     df: &DataFrame,
+    row_offset: usize,
     settings: &IngestSettings,
     mut cell_problems: Vec<Problem>,
 ) -> TableRuns {
@@ -119,6 +122,34 @@ pub fn table_runs(
         cell_problems.append(&mut problems);
         columns.push(cells);
     }
+    // A malformed file can decode into a column shorter or longer than the table
+    // (found by fuzzing: fuzz/regressions/ingest_parquet-short-column.parquet).
+    for (&(canonical, _), cells) in specs.iter().zip(&columns) {
+        let length = match cells {
+            ColumnCells::Absent => continue,
+            ColumnCells::Float(cells) => cells.len(),
+            ColumnCells::Integer(cells) => cells.len(),
+            ColumnCells::Text(cells) => cells.len(),
+        };
+        if length != height {
+            let name = binding
+                .index
+                .get(canonical)
+                .map(|&index| column_name(df, index))
+                .unwrap_or_else(|| canonical.to_string());
+            file_problems.push(Problem::file(
+                label,
+                format!("the file is malformed: column {name} holds {length} values but the table has {height} rows"),
+            ));
+        }
+    }
+    if !file_problems.is_empty() {
+        return TableRuns {
+            runs: Vec::new(),
+            bad_rows: Vec::new(),
+            file_problems,
+        };
+    }
     let names: HashMap<&'static str, String> = super::columns::CANONICAL_COLUMNS
         .iter()
         .map(|&canonical| {
@@ -132,6 +163,7 @@ pub fn table_runs(
         .collect();
     let table = Extracted {
         label,
+        row_offset,
         settings,
         columns,
         names,
@@ -139,10 +171,17 @@ pub fn table_runs(
 
     // Problems found while typing cells, grouped by row.
     let mut row_problems: Vec<Vec<Problem>> = vec![Vec::new(); height];
-    for problem in cell_problems.drain(..) {
+    for mut problem in cell_problems.drain(..) {
         match problem.row {
-            Some(row) if row >= 1 && row <= height => row_problems[row - 1].push(problem),
-            _ => file_problems.push(problem),
+            Some(row) if row >= 1 && row <= height => {
+                problem.row = Some(row + row_offset);
+                row_problems[row - 1].push(problem)
+            }
+            Some(row) => {
+                problem.row = Some(row + row_offset);
+                file_problems.push(problem)
+            }
+            None => file_problems.push(problem),
         }
     }
 
@@ -150,7 +189,11 @@ pub fn table_runs(
     let assembled: Vec<Result<RunInput, (usize, Vec<Problem>)>> = row_problems
         .into_par_iter()
         .enumerate()
-        .map(|(i, found)| table.assemble(i, found).map_err(|p| (i + 1, p)))
+        .map(|(i, found)| {
+            table
+                .assemble(i, found)
+                .map_err(|p| (row_offset + i + 1, p))
+        })
         .collect();
     let mut runs = Vec::with_capacity(height);
     let mut bad_rows = Vec::new();
@@ -225,6 +268,8 @@ enum ColumnCells<'a> {
 /// The typed columns of one table, and what is needed to assemble its rows.
 struct Extracted<'a> {
     label: &'a str,
+    /// Rows of the file before this batch.
+    row_offset: usize,
     settings: &'a IngestSettings,
     /// In the order of `CANONICAL_COLUMNS`.
     columns: Vec<ColumnCells<'a>>,
@@ -262,7 +307,7 @@ impl Extracted<'_> {
     fn assemble(&self, i: usize, mut found: Vec<Problem>) -> Result<RunInput, Vec<Problem>> {
         let label = self.label;
         let settings = self.settings;
-        let row = i + 1;
+        let row = self.row_offset + i + 1;
         let scale = if settings.percent { 100.0 } else { 1.0 };
         let range_text = if settings.percent {
             "[0, 100]"

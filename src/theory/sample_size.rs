@@ -7,6 +7,7 @@
 //! - Hoeffding (Hoeffding 1963, JASA 58): `⌈ln(1/α) / (2(c − rate)²)⌉`, the
 //!   smallest n with `rate + sqrt(ln(1/α)/(2n)) ≤ c`.
 
+use super::beta::ln_incomplete_beta;
 use super::binomial::{upper_bound, upper_bound_real};
 
 /// Errors counted at n held-out examples with the given error rate:
@@ -72,7 +73,12 @@ pub fn holdout_needed_binomial(rate: f64, claim_error: f64, alpha: f64) -> Optio
     if claim_error >= 1.0 {
         return Some(1);
     }
-    let certifies = |n: u64| upper_bound(errors_at(rate, n), n, alpha) <= claim_error;
+    let certifies = |n: u64| {
+        let k = errors_at(rate, n);
+        bound_at_most(k as f64, n as f64, alpha, claim_error, || {
+            upper_bound(k, n, alpha)
+        })
+    };
     if rate == 0.0 {
         let estimate = (alpha.ln() / (-claim_error).ln_1p()).ceil();
         let mut n = if estimate.is_finite() && estimate >= 1.0 {
@@ -91,9 +97,12 @@ pub fn holdout_needed_binomial(rate: f64, claim_error: f64, alpha: f64) -> Optio
         }
         return Some(n);
     }
-    let envelope_low = |n: u64| upper_bound_real(rate * n as f64, n as f64, alpha) <= claim_error;
-    let envelope_high =
-        |n: u64| upper_bound_real(rate * n as f64 + 1.0, n as f64, alpha) <= claim_error;
+    let envelope = |extra: f64, n: u64| {
+        let (k, n) = (rate * n as f64 + extra, n as f64);
+        bound_at_most(k, n, alpha, claim_error, || upper_bound_real(k, n, alpha))
+    };
+    let envelope_low = |n: u64| envelope(0.0, n);
+    let envelope_high = |n: u64| envelope(1.0, n);
     let n_lo = smallest_passing(1, envelope_low)?;
     let n_hi = smallest_passing(n_lo, envelope_high).unwrap_or(SEARCH_LIMIT);
     let mut n = n_lo;
@@ -118,6 +127,33 @@ pub fn holdout_needed_binomial(rate: f64, claim_error: f64, alpha: f64) -> Optio
         n = group_end + 1;
     }
     None
+}
+
+/// Whether the exact upper bound U(k, n, α) is at most `claim` (k real, as in
+/// [`upper_bound_real`]), with one evaluation of the binomial tail instead of an
+/// inversion: the tail P[Bin(n, p) ≤ k] = 1 − I_p(k + 1, n − k) falls as p grows,
+/// so U ≤ c exactly when the tail at p = c is at most α (the duality that defines
+/// the Clopper & Pearson 1934 bound). Where the tail is within a relative 1e-8 of α
+/// the two sides are too close to call in floating point, and `exact` (the
+/// inversion) decides, so the answer always equals `exact() ≤ claim`: the tail and
+/// the inversion are each accurate to far better than 1e-8 relative.
+fn bound_at_most(k: f64, n: f64, alpha: f64, claim: f64, exact: impl FnOnce() -> f64) -> bool {
+    let simple = k > 0.0
+        && n - k >= 1.0
+        && alpha > f64::MIN_POSITIVE
+        && alpha < 1.0
+        && claim > 0.0
+        && claim < 1.0;
+    if !simple {
+        return exact() <= claim;
+    }
+    let ln_tail = ln_incomplete_beta(k + 1.0, n - k, claim, 1.0 - claim).ln_upper;
+    let margin = ln_tail - alpha.ln();
+    if margin.abs() <= 1e-8 || margin.is_nan() {
+        exact() <= claim
+    } else {
+        margin < 0.0
+    }
 }
 
 /// True when no sample size is defined: rate ≥ claim (nothing to certify),

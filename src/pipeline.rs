@@ -1,0 +1,253 @@
+//! The streaming audit: logs are read, audited and written in batches, so memory
+//! stays bounded however many runs the logs hold (SPEC §8: ten million runs within
+//! 4 GB).
+//!
+//! Two passes. The first validates every row, so every problem is reported before
+//! any output is written, and counts what the audit needs to know about all runs
+//! before it can audit one ([`AuditScope`]: claims for `--familywise`, runs per
+//! held-out split for K). The second audits batch by batch and hands each batch of
+//! results to a writer. When the runs fit in [`StreamLimits::hold_runs`], the first
+//! pass keeps them and the logs are not validated twice.
+//!
+//! Every run's result depends only on the run, the scope and the settings, so the
+//! streamed results equal those of [`crate::audit_paths`] (tests/streaming.rs).
+
+use std::io;
+use std::path::PathBuf;
+use std::sync::atomic::{AtomicUsize, Ordering};
+use std::sync::mpsc;
+
+use rayon::prelude::*;
+
+use crate::audit::{AuditScope, AuditSettings, Auditor, RunResult, Summary};
+use crate::ingest::{
+    self, Collected, FileProgress, IngestError, IngestSettings, InputFile, LogSource, OpenedLog,
+    RunInput, SkippedFile, SkippedRow,
+};
+
+/// Batch sizes of the streaming audit.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub struct StreamLimits {
+    /// Rows validated and audited together (Parquet batches hold whole row groups).
+    pub batch_rows: usize,
+    /// Up to this many runs are kept from the first pass; beyond it they are dropped
+    /// and the logs are validated again in the second pass.
+    pub hold_runs: usize,
+}
+
+impl Default for StreamLimits {
+    fn default() -> Self {
+        StreamLimits {
+            batch_rows: 1 << 16,
+            hold_runs: 2_000_000,
+        }
+    }
+}
+
+/// Logs that passed the first pass, ready to be audited batch by batch.
+pub struct PreparedAudit<'a> {
+    logs: Vec<OpenedLog<'a>>,
+    /// Per log: whether its runs are audited (a log skipped under `--lenient` is not).
+    usable: Vec<bool>,
+    /// The runs, batch by batch, when they were few enough to keep.
+    held: Option<Vec<Vec<RunInput>>>,
+    scope: AuditScope,
+    runs: usize,
+    settings: IngestSettings,
+    limits: StreamLimits,
+    pub inputs: Vec<InputFile>,
+    pub skipped_rows: Vec<SkippedRow>,
+    pub skipped_files: Vec<SkippedFile>,
+}
+
+/// What one log's first pass produced.
+struct FirstPass {
+    report: ingest::FileReport,
+    scope: AuditScope,
+    runs: usize,
+    held: Option<Vec<Vec<RunInput>>>,
+}
+
+/// The first pass over the logs found at `paths` (files or folders).
+pub fn prepare_paths(
+    paths: &[PathBuf],
+    settings: &IngestSettings,
+    limits: StreamLimits,
+    progress: FileProgress<'_>,
+) -> Result<PreparedAudit<'static>, IngestError> {
+    let discovery = ingest::discover(paths)?;
+    let sources: Vec<LogSource<'static>> = discovery
+        .logs
+        .iter()
+        .map(|log| LogSource::Path(log.path.clone(), log.format))
+        .collect();
+    let mut prepared = prepare(&sources, settings, limits, progress)?;
+    prepared
+        .skipped_files
+        .extend(ingest::not_log_files(&discovery));
+    Ok(prepared)
+}
+
+/// The first pass over the given sources: open, validate and count every run.
+pub fn prepare<'a>(
+    sources: &[LogSource<'a>],
+    settings: &IngestSettings,
+    limits: StreamLimits,
+    progress: FileProgress<'_>,
+) -> Result<PreparedAudit<'a>, IngestError> {
+    ingest::columns::check_column_map(&settings.column_map).map_err(IngestError::Usage)?;
+    let done = AtomicUsize::new(0);
+    let held_runs = AtomicUsize::new(0);
+    let (logs, passes): (Vec<OpenedLog<'a>>, Vec<FirstPass>) = sources
+        .par_iter()
+        .map(|source| {
+            let log = OpenedLog::open(source);
+            let mut scope = AuditScope::default();
+            let mut runs = 0;
+            let mut held: Option<Vec<Vec<RunInput>>> = Some(Vec::new());
+            let report = log.validate(settings, limits.batch_rows, &mut |batch| {
+                for run in &batch {
+                    scope.observe(run);
+                }
+                runs += batch.len();
+                let total = held_runs.fetch_add(batch.len(), Ordering::Relaxed) + batch.len();
+                match &mut held {
+                    Some(batches) if total <= limits.hold_runs => batches.push(batch),
+                    _ => held = None,
+                }
+                true
+            });
+            let finished = done.fetch_add(1, Ordering::Relaxed) + 1;
+            progress(finished, sources.len());
+            let pass = FirstPass {
+                report,
+                scope,
+                runs,
+                held,
+            };
+            (log, pass)
+        })
+        .unzip();
+
+    let mut collected = Collected::default();
+    let mut scope = AuditScope::default();
+    let mut usable = Vec::with_capacity(logs.len());
+    let mut held = Some(Vec::new());
+    let mut runs = 0;
+    let keep_all = held_runs.load(Ordering::Relaxed) <= limits.hold_runs;
+    for (log, pass) in logs.iter().zip(passes) {
+        let use_log = collected.add(log, pass.report, settings.lenient);
+        usable.push(use_log);
+        if !use_log {
+            continue;
+        }
+        scope.merge(pass.scope);
+        runs += pass.runs;
+        match (&mut held, pass.held) {
+            (Some(all), Some(batches)) if keep_all => all.extend(batches),
+            _ => held = None,
+        }
+    }
+    collected.finish(sources, runs)?;
+    Ok(PreparedAudit {
+        logs,
+        usable,
+        held,
+        scope,
+        runs,
+        settings: settings.clone(),
+        limits,
+        inputs: collected.inputs,
+        skipped_rows: collected.skipped_rows,
+        skipped_files: collected.skipped_files,
+    })
+}
+
+impl PreparedAudit<'_> {
+    /// Runs that will be audited.
+    pub fn runs(&self) -> usize {
+        self.runs
+    }
+
+    /// The second pass: audits every run, batch by batch in input order, handing each
+    /// batch of results to `sink`; returns the summary with the gate applied. With
+    /// `messages` false the findings carry codes only (all the flat formats print).
+    ///
+    /// Three stages overlap: one thread reads and validates the next batch, another
+    /// audits the current one, and this thread writes the previous one (the writer
+    /// stays on the caller's thread, so `sink` need not be `Send`).
+    pub fn audit(
+        self,
+        audit_settings: &AuditSettings,
+        messages: bool,
+        sink: &mut dyn FnMut(&[RunResult]) -> io::Result<()>,
+    ) -> io::Result<Summary> {
+        let mut auditor = Auditor::new(&self.scope, audit_settings);
+        if !messages {
+            auditor = auditor.codes_only();
+        }
+        let mut summary = Summary::default();
+        let PreparedAudit {
+            logs,
+            usable,
+            held,
+            settings,
+            limits,
+            skipped_rows,
+            skipped_files,
+            ..
+        } = self;
+        // One batch in flight per stage bounds the memory to a few batches.
+        let (inputs_out, inputs_in) = mpsc::sync_channel::<Vec<RunInput>>(1);
+        let (results_out, results_in) = mpsc::sync_channel::<Vec<RunResult>>(1);
+        let written = std::thread::scope(|scope| -> io::Result<()> {
+            scope.spawn(move || match held {
+                Some(batches) => {
+                    for batch in batches {
+                        if inputs_out.send(batch).is_err() {
+                            return;
+                        }
+                    }
+                }
+                None => {
+                    for (log, usable) in logs.iter().zip(&usable) {
+                        if !usable {
+                            continue;
+                        }
+                        // Bad rows were reported by the first pass; only runs matter now.
+                        let mut stopped = false;
+                        log.validate(&settings, limits.batch_rows, &mut |batch| {
+                            stopped = inputs_out.send(batch).is_err();
+                            !stopped
+                        });
+                        if stopped {
+                            return;
+                        }
+                    }
+                }
+            });
+            let auditor = &auditor;
+            scope.spawn(move || {
+                for batch in inputs_in {
+                    if results_out.send(auditor.audit(batch)).is_err() {
+                        return;
+                    }
+                }
+            });
+            for results in results_in {
+                for result in &results {
+                    summary.count(result);
+                }
+                // On an error the channels close and the other stages stop.
+                sink(&results)?;
+            }
+            Ok(())
+        });
+        written?;
+        summary.rows_skipped = skipped_rows.len();
+        summary.rows_read = summary.runs + skipped_rows.len();
+        summary.files_skipped = skipped_files.len();
+        summary.apply_gate(audit_settings.gate);
+        Ok(summary)
+    }
+}

@@ -1,0 +1,299 @@
+//! The streaming audit (src/pipeline.rs: two passes, batch by batch) gives exactly
+//! the results of the in-memory audit, whatever the batch size and whether the first
+//! pass keeps the runs; and the parallel audit gives bit-identical results to a
+//! single-threaded one. Results are compared as serialised JSON, whose floats round
+//! trip exactly (serde_json `float_roundtrip`), so equality here is bit equality.
+
+mod common;
+
+use std::path::{Path, PathBuf};
+
+use gapcert::audit::{AuditSettings, RunResult, Summary};
+use gapcert::ingest::IngestSettings;
+use gapcert::pipeline::{self, StreamLimits};
+use polars::prelude::*;
+use rand::{Rng, SeedableRng};
+
+fn fixture(path: &str) -> PathBuf {
+    common::root().join("fixtures").join(path)
+}
+
+fn streamed(
+    paths: &[PathBuf],
+    audit: &AuditSettings,
+    ingest: &IngestSettings,
+    limits: StreamLimits,
+    messages: bool,
+) -> (Vec<RunResult>, Summary) {
+    let prepared = pipeline::prepare_paths(paths, ingest, limits, &|_, _| {}).expect("valid logs");
+    let mut runs = Vec::new();
+    let mut batches = 0;
+    let summary = prepared
+        .audit(audit, messages, &mut |batch| {
+            batches += 1;
+            assert!(!batch.is_empty() || batches == 1, "empty batch written");
+            runs.extend_from_slice(batch);
+            Ok(())
+        })
+        .expect("audit");
+    (runs, summary)
+}
+
+fn json(runs: &[RunResult]) -> String {
+    serde_json::to_string(runs).expect("serialise")
+}
+
+fn ndjson(runs: &[RunResult]) -> Vec<u8> {
+    let mut out = Vec::new();
+    gapcert::report::flat::write_ndjson(runs, &mut out).expect("write");
+    out
+}
+
+/// Every limit worth trying: one run per batch with nothing kept, a few runs per
+/// batch with some kept, and the defaults.
+fn limits() -> Vec<StreamLimits> {
+    vec![
+        StreamLimits {
+            batch_rows: 1,
+            hold_runs: 0,
+        },
+        StreamLimits {
+            batch_rows: 3,
+            hold_runs: 7,
+        },
+        StreamLimits {
+            batch_rows: 5,
+            hold_runs: usize::MAX,
+        },
+        StreamLimits::default(),
+    ]
+}
+
+fn assert_same_as_in_memory(paths: &[PathBuf], audit: &AuditSettings, ingest: &IngestSettings) {
+    let doc = gapcert::audit_paths(paths, audit, ingest).expect("valid logs");
+    assert!(!doc.runs.is_empty());
+    for limit in limits() {
+        let (runs, summary) = streamed(paths, audit, ingest, limit, true);
+        assert_eq!(json(&runs), json(&doc.runs), "{paths:?} with {limit:?}");
+        assert_eq!(summary, doc.summary, "{paths:?} with {limit:?}");
+        // Codes only (what `--format ndjson|csv` uses): the same flat output.
+        let (codes_only, _) = streamed(paths, audit, ingest, limit, false);
+        assert!(codes_only
+            .iter()
+            .flat_map(|r| &r.findings)
+            .all(|f| f.message.is_empty()));
+        assert_eq!(
+            ndjson(&codes_only),
+            ndjson(&doc.runs),
+            "{paths:?} with {limit:?}"
+        );
+    }
+}
+
+/// A CSV log rewritten as Parquet with `group_rows` rows per row group, so batches
+/// follow row groups.
+fn parquet_copy(csv: &Path, group_rows: usize, folder: &Path) -> PathBuf {
+    let mut df = CsvReadOptions::default()
+        .with_has_header(true)
+        .try_into_reader_with_file_path(Some(csv.to_path_buf()))
+        .expect("open csv")
+        .finish()
+        .expect("read csv");
+    let path = folder.join("runs.parquet");
+    let file = std::fs::File::create(&path).expect("create parquet");
+    ParquetWriter::new(file)
+        .with_row_group_size(Some(group_rows))
+        .finish(&mut df)
+        .expect("write parquet");
+    path
+}
+
+#[test]
+fn streamed_demo_equals_in_memory_audit() {
+    let paths = [fixture("demo/runs.csv")];
+    let ingest = IngestSettings::default();
+    assert_same_as_in_memory(&paths, &AuditSettings::default(), &ingest);
+    let familywise = AuditSettings {
+        familywise: true,
+        ..AuditSettings::default()
+    };
+    assert_same_as_in_memory(&paths, &familywise, &ingest);
+    let same_holdout = AuditSettings {
+        same_holdout: true,
+        ..AuditSettings::default()
+    };
+    assert_same_as_in_memory(&paths, &same_holdout, &ingest);
+}
+
+#[test]
+fn streamed_folder_of_every_format_equals_in_memory_audit() {
+    // Six files holding the same runs: K counts rows across all of them.
+    assert_same_as_in_memory(
+        &[fixture("formats"), fixture("demo/runs.csv")],
+        &AuditSettings::default(),
+        &IngestSettings::default(),
+    );
+}
+
+#[test]
+fn streamed_parquet_row_groups_equal_in_memory_audit() {
+    let folder = tempfile::tempdir().expect("temporary folder");
+    for group_rows in [1, 4, 7, 1000] {
+        let parquet = parquet_copy(&fixture("demo/runs.csv"), group_rows, folder.path());
+        assert_same_as_in_memory(
+            &[parquet],
+            &AuditSettings::default(),
+            &IngestSettings::default(),
+        );
+    }
+}
+
+#[test]
+fn streamed_lenient_audit_skips_the_same_rows_and_files() {
+    let paths = [
+        fixture("bad/several_bad_rows.csv"),
+        fixture("demo/runs.csv"),
+        fixture("bad/missing_holdout_n.csv"),
+    ];
+    let ingest = IngestSettings {
+        lenient: true,
+        ..IngestSettings::default()
+    };
+    let doc = gapcert::audit_paths(&paths, &AuditSettings::default(), &ingest).expect("lenient");
+    assert!(!doc.skipped_rows.is_empty() && !doc.skipped_files.is_empty());
+    for limit in limits() {
+        let prepared =
+            pipeline::prepare_paths(&paths, &ingest, limit, &|_, _| {}).expect("lenient");
+        assert_eq!(prepared.skipped_rows, doc.skipped_rows, "{limit:?}");
+        assert_eq!(prepared.skipped_files, doc.skipped_files, "{limit:?}");
+        assert_eq!(prepared.inputs, doc.inputs, "{limit:?}");
+    }
+    assert_same_as_in_memory(&paths, &AuditSettings::default(), &ingest);
+}
+
+#[test]
+fn streamed_bad_input_fails_before_any_batch_is_audited() {
+    let paths = [
+        fixture("demo/runs.csv"),
+        fixture("bad/several_bad_rows.csv"),
+    ];
+    for limit in limits() {
+        match pipeline::prepare_paths(&paths, &IngestSettings::default(), limit, &|_, _| {}) {
+            Ok(_) => panic!("bad rows accepted with {limit:?}"),
+            Err(error) => {
+                let text = error.to_string();
+                assert!(text.contains("several_bad_rows.csv:"), "{text}");
+            }
+        }
+    }
+}
+
+/// An invented sweep log of `rows` runs: random sizes, counts, claims, families and
+/// shared held-out splits (seeded).
+fn invented_sweep(rows: usize, path: &Path) {
+    let mut rng = rand::rngs::StdRng::seed_from_u64(20261202);
+    let families = ["linear,8,", "vc,,12", "ray,,", "box,3,", "mystery,,"];
+    let mut text = String::from("run,family,dim,vc_dim,train_n,train_error_rate,holdout_n,holdout_misclassified,holdout_set,claimed_accuracy\n");
+    for i in 0..rows {
+        let n: u64 = 10u64.pow(rng.gen_range(2..6)) * rng.gen_range(1..10);
+        let k = rng.gen_range(0..=n / 10);
+        let family = families[rng.gen_range(0..families.len())];
+        let train_n = rng.gen_range(100..1_000_000);
+        let train_rate: f64 = rng.gen_range(0.0..0.2);
+        let split = rng.gen_range(0..40);
+        let claim: f64 = rng.gen_range(0.85..0.999);
+        text.push_str(&format!(
+            "sweep-{i},{family},{train_n},{train_rate:.5},{n},{k},split-{split},{claim:.4}\n"
+        ));
+    }
+    std::fs::write(path, text).expect("write log");
+}
+
+#[test]
+fn streamed_sweep_equals_in_memory_audit() {
+    let folder = tempfile::tempdir().expect("temporary folder");
+    let path = folder.path().join("sweep.csv");
+    invented_sweep(3000, &path);
+    let paths = [path];
+    let audit = AuditSettings::default();
+    let ingest = IngestSettings::default();
+    let doc = gapcert::audit_paths(&paths, &audit, &ingest).expect("valid log");
+    for limit in [
+        StreamLimits {
+            batch_rows: 257,
+            hold_runs: 0,
+        },
+        StreamLimits {
+            batch_rows: 1000,
+            hold_runs: 2000,
+        },
+    ] {
+        let (runs, summary) = streamed(&paths, &audit, &ingest, limit, true);
+        assert_eq!(json(&runs), json(&doc.runs), "{limit:?}");
+        assert_eq!(summary, doc.summary);
+        let (codes_only, _) = streamed(&paths, &audit, &ingest, limit, false);
+        assert_eq!(ndjson(&codes_only), ndjson(&doc.runs), "{limit:?}");
+    }
+}
+
+#[test]
+fn parallel_audit_is_bit_identical_to_single_threaded() {
+    let folder = tempfile::tempdir().expect("temporary folder");
+    let path = folder.path().join("sweep.csv");
+    invented_sweep(5000, &path);
+    let paths = [path];
+    let audit = AuditSettings::default();
+    let ingest = IngestSettings::default();
+    let audit_with = |threads: usize| {
+        let pool = rayon::ThreadPoolBuilder::new()
+            .num_threads(threads)
+            .build()
+            .expect("thread pool");
+        pool.install(|| gapcert::audit_paths(&paths, &audit, &ingest).expect("valid log"))
+    };
+    let single = audit_with(1);
+    let parallel = audit_with(4);
+    assert_eq!(single.runs.len(), 5000);
+    assert_eq!(json(&single.runs), json(&parallel.runs));
+    assert_eq!(single.summary, parallel.summary);
+    // And the flat writer: lines formatted in parallel, written in order.
+    let write = |threads: usize| {
+        let pool = rayon::ThreadPoolBuilder::new()
+            .num_threads(threads)
+            .build()
+            .expect("thread pool");
+        let mut out = Vec::new();
+        pool.install(|| gapcert::report::flat::write_ndjson(&single.runs, &mut out))
+            .expect("write");
+        out
+    };
+    assert_eq!(write(1), write(4));
+}
+
+#[test]
+fn hand_written_json_lines_equal_serde_output() {
+    let folder = tempfile::tempdir().expect("temporary folder");
+    let path = folder.path().join("sweep.csv");
+    invented_sweep(2000, &path);
+    let mut paths = vec![path, fixture("demo/runs.csv"), fixture("formats")];
+    paths.extend([fixture("edge/mixed_case.csv")]);
+    let doc = gapcert::audit_paths(
+        &paths,
+        &AuditSettings::default(),
+        &IngestSettings::default(),
+    )
+    .expect("valid logs");
+    let mut runs = doc.runs;
+    // Hostile and unusual text: quotes, backslashes, control characters, non-ASCII.
+    runs[0].run = "a \"quoted\" \\ run\n\t\u{7}é😀".to_string();
+    runs[0].holdout_set = Some("</script>\u{0}".to_string());
+    runs[0].logged_at = None;
+    runs[1].growth_ln = Some(f64::NAN);
+    runs[1].vc_bound = Some(f64::INFINITY);
+    let mut serde = Vec::new();
+    gapcert::report::flat::write_ndjson_serde(&runs, &mut serde).expect("write");
+    assert_eq!(
+        String::from_utf8(ndjson(&runs)).unwrap(),
+        String::from_utf8(serde).unwrap()
+    );
+}
