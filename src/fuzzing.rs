@@ -36,6 +36,33 @@ pub fn exercise(data: &[u8], format: LogFormat) {
             }
             let mut sink = Vec::new();
             let _ = report::html::write_html(&doc, &mut sink);
+            stream_matches(&sources, &ingest_settings, &audit_settings, &doc);
         }
     }
+}
+
+/// The streaming audit in tiny batches must write exactly the JSON lines of the
+/// in-memory audit (differential check: a mismatch panics, which the fuzzer reports).
+fn stream_matches(
+    sources: &[LogSource<'_>],
+    ingest_settings: &IngestSettings,
+    audit_settings: &AuditSettings,
+    doc: &report::AuditDocument,
+) {
+    let limits = crate::pipeline::StreamLimits {
+        batch_rows: 3,
+        hold_runs: 0,
+    };
+    let prepared = crate::pipeline::prepare(sources, ingest_settings, limits, &|_, _| {})
+        .expect("the in-memory audit accepted these logs");
+    let mut streamed = Vec::new();
+    let summary = prepared
+        .audit(audit_settings, false, &mut |runs| {
+            report::flat::write_ndjson(runs, &mut streamed)
+        })
+        .expect("writing to memory");
+    let mut expected = Vec::new();
+    report::flat::write_ndjson(&doc.runs, &mut expected).expect("writing to memory");
+    assert!(streamed == expected, "streamed JSON lines differ");
+    assert_eq!(summary, doc.summary, "streamed summary differs");
 }

@@ -47,8 +47,8 @@ pub fn audit_outcome(
     let runs = audit_runs_owned(outcome.runs, audit_settings);
     timing("audit", started);
     let mut summary = summarize(&runs, audit_settings.gate);
-    summary.rows_skipped = outcome.skipped_rows.len();
-    summary.rows_read = runs.len() + outcome.skipped_rows.len();
+    summary.rows_skipped = outcome.skipped_rows.len() + outcome.rows_in_skipped_files;
+    summary.rows_read = runs.len() + summary.rows_skipped;
     summary.files_skipped = outcome.skipped_files.len();
     AuditDocument {
         tool: ToolInfo::current(),

@@ -58,6 +58,8 @@ pub struct PreparedAudit<'a> {
     pub inputs: Vec<InputFile>,
     pub skipped_rows: Vec<SkippedRow>,
     pub skipped_files: Vec<SkippedFile>,
+    /// Data rows of the logs skipped whole under `--lenient`.
+    pub rows_in_skipped_files: usize,
 }
 
 /// What one log's first pass produced.
@@ -160,6 +162,7 @@ pub fn prepare<'a>(
         inputs: collected.inputs,
         skipped_rows: collected.skipped_rows,
         skipped_files: collected.skipped_files,
+        rows_in_skipped_files: collected.rows_in_skipped_files,
     })
 }
 
@@ -195,6 +198,7 @@ impl PreparedAudit<'_> {
             limits,
             skipped_rows,
             skipped_files,
+            rows_in_skipped_files,
             ..
         } = self;
         // One batch in flight per stage bounds the memory to a few batches.
@@ -244,8 +248,8 @@ impl PreparedAudit<'_> {
             Ok(())
         });
         written?;
-        summary.rows_skipped = skipped_rows.len();
-        summary.rows_read = summary.runs + skipped_rows.len();
+        summary.rows_skipped = skipped_rows.len() + rows_in_skipped_files;
+        summary.rows_read = summary.runs + summary.rows_skipped;
         summary.files_skipped = skipped_files.len();
         summary.apply_gate(audit_settings.gate);
         Ok(summary)

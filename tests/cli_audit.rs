@@ -652,3 +652,36 @@ fn every_report_format_renders_the_demo() {
     let first_row = table.lines().find(|l| l.contains("kw-")).unwrap();
     assert!(first_row.contains("refuted"), "{first_row}");
 }
+
+#[test]
+fn lenient_counts_the_rows_of_a_skipped_file_as_read_and_skipped() {
+    // missing_holdout_n.csv has 4 data rows and no holdout_n column: skipped whole.
+    // zero_negative_counts.csv: 1 run audited, 3 rows skipped.
+    for format in ["json", "ndjson"] {
+        let output = gapcert(&[
+            "audit",
+            "fixtures/bad/missing_holdout_n.csv",
+            "fixtures/bad/zero_negative_counts.csv",
+            "--lenient",
+            "--format",
+            format,
+            "--gate",
+            "never",
+        ]);
+        assert_eq!(output.status.code(), Some(0), "{}", stderr(&output));
+        if format == "ndjson" {
+            assert_eq!(stdout(&output).lines().count(), 1);
+            continue;
+        }
+        let doc: serde_json::Value = serde_json::from_slice(&output.stdout).unwrap();
+        let summary = &doc["summary"];
+        assert_eq!(summary["runs"], 1);
+        assert_eq!(summary["rows_skipped"], 3 + 4);
+        assert_eq!(
+            summary["rows_read"], 8,
+            "read = audited + skipped, skipped file included"
+        );
+        assert_eq!(doc["skipped_files"].as_array().unwrap().len(), 1);
+        assert_eq!(doc["skipped_rows"].as_array().unwrap().len(), 3);
+    }
+}

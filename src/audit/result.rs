@@ -118,7 +118,8 @@ pub struct Summary {
     pub no_claim: usize,
     /// Rows read from the inputs (audited plus skipped).
     pub rows_read: usize,
-    /// Rows skipped under `--lenient`.
+    /// Rows skipped under `--lenient`: bad rows, plus every row of a log skipped
+    /// whole.
     pub rows_skipped: usize,
     /// Files in folders that are not logs, plus logs skipped under `--lenient`.
     pub files_skipped: usize,

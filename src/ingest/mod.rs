@@ -75,6 +75,8 @@ pub struct IngestOutcome {
     pub skipped_rows: Vec<SkippedRow>,
     /// Logs that `--lenient` could not use at all, and non-log files found in folders.
     pub skipped_files: Vec<SkippedFile>,
+    /// Data rows of the logs that `--lenient` skipped whole (read, not audited).
+    pub rows_in_skipped_files: usize,
 }
 
 /// Where a log's bytes come from.
@@ -169,6 +171,7 @@ pub fn read_sources_reporting(
     outcome.inputs = collected.inputs;
     outcome.skipped_rows = collected.skipped_rows;
     outcome.skipped_files = collected.skipped_files;
+    outcome.rows_in_skipped_files = collected.rows_in_skipped_files;
     Ok(outcome)
 }
 
@@ -187,13 +190,16 @@ pub struct Collected {
     pub inputs: Vec<InputFile>,
     pub skipped_rows: Vec<SkippedRow>,
     pub skipped_files: Vec<SkippedFile>,
+    /// Data rows of the logs skipped whole.
+    pub rows_in_skipped_files: usize,
     pub problems: Vec<Problem>,
 }
 
 impl Collected {
     /// Records one file's report: under `--lenient` bad rows are skipped rows and an
-    /// unusable file is a skipped file; otherwise both are problems. Returns whether
-    /// the file's runs are to be audited.
+    /// unusable file is a skipped file (its rows counted as skipped with it, not one by
+    /// one); otherwise both are problems. Returns whether the file's runs are to be
+    /// audited.
     pub fn add(&mut self, log: &OpenedLog<'_>, report: FileReport, lenient: bool) -> bool {
         if let Some(input) = &log.input {
             self.inputs.push(input.clone());
@@ -210,12 +216,15 @@ impl Collected {
                         .collect::<Vec<_>>()
                         .join("; "),
                 });
+                self.rows_in_skipped_files += log.rows();
             } else {
                 self.problems.extend(report.file_problems);
             }
         }
         for (row, row_problems) in report.bad_rows {
-            if lenient {
+            if lenient && !usable {
+                continue;
+            } else if lenient {
                 self.skipped_rows.push(SkippedRow {
                     source: format!("{}:{row}", log.label),
                     reasons: row_problems.iter().map(|p| p.message.clone()).collect(),

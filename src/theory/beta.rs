@@ -19,10 +19,13 @@
 //! `xᵃ yᵇ / B(a, b)` (BRCOMP) uses the Stirling-difference form with
 //! [`rlog1`] and BCORR for a, b ≥ 8, so that no `ln Γ` cancellation occurs
 //! even for b ≈ 10¹² (the failure mode of generic quantile routines on large
-//! clean held-out sets, k ≤ 3 and n ≥ 10⁶). For non-integer b0 < 40 with
-//! b0·x0 > 0.7, DM use BUP + BGRAT; here BFRAC serves that corner, which
-//! gapcert reaches only through the real-valued envelope of the sample-size
-//! search.
+//! clean held-out sets, k ≤ 3 and n ≥ 10⁶). The prefactor is carried as
+//! `exp(exponent)·multiplier`, so each method takes a single logarithm of
+//! multiplier × its sum or fraction, and the ratio tail/prefactor (which the
+//! inverse needs for the density) comes out as a plain number, without an
+//! `exp`. For non-integer b0 < 40 with b0·x0 > 0.7, DM use BUP + BGRAT;
+//! here BFRAC serves that corner, which gapcert reaches only through the
+//! real-valued envelope of the sample-size search.
 //!
 //! The inverse ([`inverse_incomplete_beta`]) starts from closed forms where
 //! a or b is 1. When one parameter is a small integer (2…30) and the other
@@ -35,13 +38,14 @@
 //! AS 109", Applied Statistics 26(1), 1977, 111–114 (after Majumder &
 //! Bhattacharjee 1973, AS 63/64; Abramowitz & Stegun 26.5.22), with the
 //! normal deviate of M. J. Wichura, "Algorithm AS 241", Applied Statistics
-//! 37(3), 1988, 477–484. It then solves `ln T(e^t) = ln p` in t = ln x with
-//! a fourth-order series-reversion step near the root (Halley or Newton
+//! 37(3), 1988, 477–484 (PPND7, 1e-7 accuracy, ample for a start). It then
+//! solves `ln T(e^t) = ln p` in t = ln x, for whichever tail T has p ≤ 1/2,
+//! with a fourth-order series-reversion step near the root (Halley or Newton
 //! farther out), inside a bisection bracket; with these starting values one
 //! evaluation of T is enough for nearly every binomial bound.
 
 use super::special::{
-    erfc_scaled, ln_beta, ln_one_minus_exp, normal_upper_deviate_given_ln, rlog1,
+    erfc_scaled, ln_beta, ln_one_minus_exp, normal_upper_deviate_start, rlog1,
     stirling_correction_difference, LN_SQRT_2PI,
 };
 
@@ -99,30 +103,46 @@ pub fn ln_incomplete_beta(a: f64, b: f64, x: f64, y: f64) -> LnBetaTails {
     LnBetaTails {
         ln_lower,
         ln_upper,
-        ln_prefactor: smaller.ln_prefactor,
+        ln_prefactor: smaller.ln_tail - smaller.tail_ratio.ln(),
     }
 }
 
 /// The tail that BRATIO computes directly (the smaller one, up to O(1/√n)),
-/// in log space, with the log prefactor.
+/// in log space, with its ratio to the prefactor.
 #[derive(Clone, Copy, Debug)]
 struct SmallerTail {
     ln_tail: f64,
     /// true when `ln_tail` is `ln(1 − I_x(a, b))`, false for `ln I_x(a, b)`.
     is_upper: bool,
-    ln_prefactor: f64,
+    /// `w / (xᵃ yᵇ / B(a, b))` with w the tail in `ln_tail`, as a plain
+    /// number: every method has it as a by-product (r itself for the
+    /// continued fraction), which spares the inverse an `exp` and a division
+    /// for the density.
+    tail_ratio: f64,
 }
 
-/// `ln` of the requested tail at an interior point 0 < x < 1 given with
-/// ln x; the other tail is only formed when it is the one asked for.
-fn ln_tail_at(a: f64, b: f64, x: f64, y: f64, ln_x: f64, upper: bool) -> (f64, f64) {
-    let smaller = ln_smaller_tail(a, b, x, y, ln_x, None);
-    let ln_tail = if smaller.is_upper == upper {
-        smaller.ln_tail
+/// `ln T` for the requested tail T at an interior point 0 < x < 1 given
+/// with ln x (and ln y when known), and `T/(x·density)`, the reciprocal of
+/// the derivative of ln T in ln x up to sign; the other tail is only formed
+/// when it is the one asked for.
+fn ln_tail_at(
+    a: f64,
+    b: f64,
+    x: f64,
+    y: f64,
+    ln_x: f64,
+    ln_y: Option<f64>,
+    upper: bool,
+) -> (f64, f64) {
+    let smaller = ln_smaller_tail(a, b, x, y, ln_x, ln_y);
+    // x·density = prefactor / y.
+    if smaller.is_upper == upper {
+        (smaller.ln_tail, smaller.tail_ratio * y)
     } else {
-        ln_one_minus_exp(smaller.ln_tail)
-    };
-    (ln_tail, smaller.ln_prefactor)
+        let ln_other = ln_one_minus_exp(smaller.ln_tail);
+        let ratio = smaller.tail_ratio * (ln_other - smaller.ln_tail).exp();
+        (ln_other, ratio * y)
+    }
 }
 
 /// `ln_y` may be left out (None): the asymptotic expansion does not need it,
@@ -131,21 +151,19 @@ fn ln_smaller_tail(a: f64, b: f64, x: f64, y: f64, ln_x: f64, ln_y: Option<f64>)
     let eps = f64::EPSILON.max(1e-15);
     let ln_y = || ln_y.unwrap_or_else(|| if x < 0.5 { (-x).ln_1p() } else { y.ln() });
     if a == 1.0 {
-        // I_x(1, b) = 1 − yᵇ: the upper tail yᵇ is exact.
-        let ln_upper = b * ln_y();
+        // I_x(1, b) = 1 − yᵇ: the upper tail yᵇ is exact; prefactor b·x·yᵇ.
         return SmallerTail {
-            ln_tail: ln_upper,
+            ln_tail: b * ln_y(),
             is_upper: true,
-            ln_prefactor: ln_x + ln_upper + b.ln(),
+            tail_ratio: 1.0 / (b * x),
         };
     }
     if b == 1.0 {
-        // I_x(a, 1) = xᵃ.
-        let ln_lower = a * ln_x;
+        // I_x(a, 1) = xᵃ; prefactor a·xᵃ·y.
         return SmallerTail {
-            ln_tail: ln_lower,
+            ln_tail: a * ln_x,
             is_upper: false,
-            ln_prefactor: ln_lower + ln_y() + a.ln(),
+            tail_ratio: 1.0 / (a * y),
         };
     }
 
@@ -176,35 +194,54 @@ fn ln_smaller_tail(a: f64, b: f64, x: f64, y: f64, ln_x: f64, ln_y: Option<f64>)
     };
     if use_asymptotic {
         // BASYM's exponent f equals BRCOMP's a·u + b·v here (|λ/a|, |λ/b| ≤ 0.03),
-        // so the prefactor shares f and BCORR instead of recomputing them.
+        // so the prefactor shares f and BCORR instead of recomputing them:
+        // w = e0·e^{−f−Δ}·sum and prefactor = e^{−f−Δ}·√(a0·b0/(a0+b0))/√(2π),
+        // so w/prefactor = 2√2·sum/√(a0·b0/(a0+b0)) (e0 = 2/√π).
         let f = a0 * rlog1(-lambda / a0) + b0 * rlog1(lambda / b0);
         let correction = stirling_correction_difference(a0, b0);
-        let ln_prefactor = -LN_SQRT_2PI + 0.5 * (a0 * b0 / (a0 + b0)).ln() - f - correction;
-        let ln_w = ln_asymptotic(a0, b0, lambda, 100.0 * eps, f, correction);
+        let sum = asymptotic_sum(a0, b0, lambda, 100.0 * eps, f);
+        const LN_E0: f64 = 0.120_782_237_635_245; // ln(2/√π)
+        const E1: f64 = 0.353_553_390_593_274; // 2^(−3/2)
         return SmallerTail {
-            ln_tail: ln_w.min(0.0),
+            ln_tail: (LN_E0 - f - correction + sum.ln()).min(0.0),
             is_upper: swapped,
-            ln_prefactor,
+            tail_ratio: sum * (((a0 + b0) / (a0 * b0)).sqrt() / E1),
         };
     }
-    let ln_y = ln_y();
-    let (ln_x0, ln_y0) = if swapped { (ln_y, ln_x) } else { (ln_x, ln_y) };
-    let ln_prefactor = ln_prefactor_xy(a0, b0, x0, y0, ln_x0, ln_y0);
-    let ln_w = if b0 < 40.0 {
-        if b0.fract() == 0.0 {
-            ln_finite_binomial_sum(a0, b0, x0, y0, ln_y0, ln_prefactor)
-        } else if b0 * x0 <= 0.7 {
-            ln_power_series(a0, b0, x0, ln_x0, eps)
-        } else {
-            ln_continued_fraction(a0, b0, x0, y0, lambda, 15.0 * eps, ln_prefactor)
-        }
+    // ln y is needed by the prefactor's small-parameter forms and by the
+    // finite sum, not by BRCOMP's a, b ≥ 8 form ahead of BFRAC.
+    let ln_y = if a0.min(b0) < 8.0 || b0 < 40.0 {
+        ln_y()
     } else {
-        ln_continued_fraction(a0, b0, x0, y0, lambda, 15.0 * eps, ln_prefactor)
+        f64::NAN
+    };
+    let (ln_x0, ln_y0) = if swapped { (ln_y, ln_x) } else { (ln_x, ln_y) };
+    // prefactor = exp(exponent)·multiplier; each method folds the multiplier
+    // into its one final logarithm.
+    let (exponent, multiplier) = prefactor_parts(a0, b0, x0, y0, ln_x0, ln_y0);
+    let (ln_w, tail_ratio) = if b0 < 40.0 && b0.fract() == 0.0 {
+        // w = prefactor/(a0·y0)·sum (see finite_binomial_sum).
+        let sum = finite_binomial_sum(a0, b0, x0, y0);
+        let ln_w = exponent - ln_y0 + (multiplier * sum / a0).ln();
+        (ln_w, sum / (a0 * y0))
+    } else if b0 < 40.0 && b0 * x0 <= 0.7 {
+        let ln_w = ln_power_series(a0, b0, x0, ln_x0, eps);
+        let ln_prefactor = exponent + multiplier.ln();
+        (ln_w, (ln_w - ln_prefactor).exp())
+    } else {
+        // w = prefactor·r.
+        let r = continued_fraction(a0, b0, x0, y0, lambda, 15.0 * eps);
+        let ln_w = if exponent == f64::NEG_INFINITY {
+            f64::NEG_INFINITY
+        } else {
+            exponent + (multiplier * r).ln()
+        };
+        (ln_w, r)
     };
     SmallerTail {
         ln_tail: ln_w.min(0.0),
         is_upper: swapped,
-        ln_prefactor,
+        tail_ratio,
     }
 }
 
@@ -229,11 +266,19 @@ pub fn ln_prefactor(a: f64, b: f64, x: f64, y: f64) -> f64 {
 }
 
 fn ln_prefactor_xy(a: f64, b: f64, x: f64, y: f64, ln_x: f64, ln_y: f64) -> f64 {
+    let (exponent, multiplier) = prefactor_parts(a, b, x, y, ln_x, ln_y);
+    exponent + multiplier.ln()
+}
+
+/// BRCOMP's `xᵃ yᵇ / B(a, b)` as `(exponent, multiplier)` with the
+/// prefactor `exp(exponent)·multiplier`, so that a caller who multiplies it
+/// by a sum takes one logarithm for both.
+fn prefactor_parts(a: f64, b: f64, x: f64, y: f64, ln_x: f64, ln_y: f64) -> (f64, f64) {
     let small = a.min(b);
     if small < 8.0 {
         if small.fract() == 0.0 {
             // Integer s = min(a, b) < 8 (every binomial tail): 1/B(s, l) =
-            // l(l+1)…(l+s−1)/(s−1)!, a product of at most 7 factors, one log.
+            // l(l+1)…(l+s−1)/(s−1)!, a product of at most 7 factors.
             let large = a.max(b);
             let mut ratio = large;
             let mut j = 1.0;
@@ -241,9 +286,9 @@ fn ln_prefactor_xy(a: f64, b: f64, x: f64, y: f64, ln_x: f64, ln_y: f64) -> f64 
                 ratio *= (large + j) / j;
                 j += 1.0;
             }
-            return a * ln_x + b * ln_y + ratio.ln();
+            return (a * ln_x + b * ln_y, ratio);
         }
-        return a * ln_x + b * ln_y - ln_beta(a, b);
+        return (a * ln_x + b * ln_y - ln_beta(a, b), 1.0);
     }
     // a, b ≥ 8: expand around the mean (x0, y0) = (a, b)/(a + b); the
     // exponent −(a·u + b·v) is a sum of two non-negative rlog1 terms.
@@ -266,17 +311,20 @@ fn ln_prefactor_xy(a: f64, b: f64, x: f64, y: f64, ln_x: f64, ln_y: f64) -> f64 
     } else {
         rlog1(e)
     };
-    -LN_SQRT_2PI + 0.5 * (b * x0).ln() - (a * u + b * v) - stirling_correction_difference(a, b)
+    (
+        -LN_SQRT_2PI - (a * u + b * v) - stirling_correction_difference(a, b),
+        (b * x0).sqrt(),
+    )
 }
 
-/// `ln I_x(a, b)` for integer b < 40 as the finite sum
+/// `I_x(a, b)` for integer b < 40 as the finite sum
 /// `P[Bin(a + b − 1, y) ≤ b − 1] = Σ_{j<b} C(a+b−1, j) yʲ x^(a+b−1−j)`
-/// (the finite case of DiDonato & Morris's BUP recursion). Terms are summed
-/// from j = b − 1 downwards; at or below the mean they decrease, so the sum
-/// stops once a term no longer changes it.
-fn ln_finite_binomial_sum(a: f64, b: f64, x: f64, y: f64, ln_y: f64, ln_prefactor: f64) -> f64 {
-    // Top term C(m, b−1)·y^(b−1)·xᵃ = prefactor / (a·y) since 1/B(a,b) = a·C(m, b−1).
-    let ln_top = ln_prefactor - a.ln() - ln_y;
+/// (the finite case of DiDonato & Morris's BUP recursion), returned as the
+/// sum relative to its top term `C(a+b−1, b−1)·y^(b−1)·xᵃ = prefactor/(a·y)`
+/// (since 1/B(a, b) = a·C(a+b−1, b−1)). Terms are summed from j = b − 1
+/// downwards; at or below the mean they decrease, so the sum stops once a
+/// term no longer changes it.
+fn finite_binomial_sum(a: f64, b: f64, x: f64, y: f64) -> f64 {
     let m = a + b - 1.0;
     let ratio_xy = x / y;
     let mut term = 1.0;
@@ -291,7 +339,7 @@ fn ln_finite_binomial_sum(a: f64, b: f64, x: f64, y: f64, ln_y: f64, ln_prefacto
         }
         j -= 1.0;
     }
-    ln_top + sum.ln()
+    sum
 }
 
 /// Power series for `ln I_x(a, b)` when b·x ≤ 0.7 (DiDonato & Morris 1992,
@@ -314,21 +362,10 @@ fn ln_power_series(a: f64, b: f64, x: f64, ln_x: f64, eps: f64) -> f64 {
     ln_factor + (a * sum).ln_1p()
 }
 
-/// Continued fraction for `ln I_x(a, b)`, a, b > 1, λ = (a + b)y − b ≥ 0
-/// (DiDonato & Morris 1992, routine BFRAC; evaluated forwards with
-/// rescaling at every step).
-fn ln_continued_fraction(
-    a: f64,
-    b: f64,
-    x: f64,
-    y: f64,
-    lambda: f64,
-    eps: f64,
-    ln_prefactor: f64,
-) -> f64 {
-    if ln_prefactor == f64::NEG_INFINITY {
-        return f64::NEG_INFINITY;
-    }
+/// Continued fraction r with `I_x(a, b) = prefactor·r`, a, b > 1,
+/// λ = (a + b)y − b ≥ 0 (DiDonato & Morris 1992, routine BFRAC; evaluated
+/// forwards with rescaling every fourth step).
+fn continued_fraction(a: f64, b: f64, x: f64, y: f64, lambda: f64, eps: f64) -> f64 {
     let c = lambda + 1.0;
     let inv_a = 1.0 / a;
     let c0 = b * inv_a;
@@ -342,14 +379,13 @@ fn ln_continued_fraction(
     let mut anp1 = 1.0;
     let mut bnp1 = c / c1;
     let mut r = c1 / c;
-    // Same recurrence as BFRAC, taken two steps per pass: the chain through
-    // b_{n+1} is bound by the latency of the division that renormalizes it,
-    // so the two steps share one reciprocal (the values grow by at most the
-    // product of two steps' coefficients in between, far from overflow), and
-    // convergence is tested on every second convergent (a stricter test than
-    // BFRAC's, at most one step later). In each step BFRAC's two divisions,
-    // by s and by c1 + 2n/a = (s + 2)/a, become one reciprocal 1/(s + 2)
-    // that the next step reuses as its 1/s.
+    // Same recurrence as BFRAC, taken four steps per pass: the chain through
+    // the convergents is bound by latency, so the four steps share one
+    // renormalizing reciprocal (the values grow by at most the product of
+    // four steps' coefficients in between, far from overflow), and
+    // convergence is tested on every fourth convergent. In each step
+    // BFRAC's two divisions, by s and by c1 + 2n/a = (s + 2)/a, become one
+    // reciprocal 1/(s + 2) that the next step reuses as its 1/s.
     let mut inv_s = 1.0 / s;
     let coefficients = |n: f64, p: f64, s: f64, inv_s: f64| {
         let w = n * (b - n) * x;
@@ -360,41 +396,62 @@ fn ln_continued_fraction(
         let beta = n + w * inv_s + (a + n) * inv_s_next * (c + n * yp1);
         (alpha, beta, n * inv_a + 1.0, inv_s_next)
     };
-    for _ in 0..50_000 {
+    for _ in 0..12_500 {
         let (alpha1, beta1, p1, inv_s1) = coefficients(n + 1.0, p, s, inv_s);
         let (alpha2, beta2, p2, inv_s2) = coefficients(n + 2.0, p1, s + 2.0, inv_s1);
-        n += 2.0;
-        p = p2;
-        s += 4.0;
-        inv_s = inv_s2;
-        let a1 = alpha1 * an + beta1 * anp1;
-        let b1 = alpha1 * bn + beta1 * bnp1;
-        let a2 = alpha2 * anp1 + beta2 * a1;
-        let b2 = alpha2 * bnp1 + beta2 * b1;
+        let (alpha3, beta3, p3, inv_s3) = coefficients(n + 3.0, p2, s + 4.0, inv_s2);
+        let (alpha4, beta4, p4, inv_s4) = coefficients(n + 4.0, p3, s + 6.0, inv_s3);
+        n += 4.0;
+        p = p4;
+        s += 8.0;
+        inv_s = inv_s4;
+        // The recurrence X_{m+1} = α_{m+1}·X_{m−1} + β_{m+1}·X_m (X = A or B)
+        // is the product of the 2×2 matrices [[0, 1], [α, β]] (the matrix
+        // form of the fundamental recurrence formulas; W. B. Jones &
+        // W. J. Thron, "Continued Fractions: Analytic Theory and
+        // Applications", Addison-Wesley 1980, ch. 2 — chapter cited from
+        // memory, not checked against the book). The four matrices are
+        // multiplied together first, off the dependency chain, so the
+        // convergents advance four terms per multiply–add and division.
+        let q1 = beta2 * alpha1;
+        let q2 = alpha2 + beta2 * beta1;
+        let q3 = beta4 * alpha3;
+        let q4 = alpha4 + beta4 * beta3;
+        let p00 = alpha3 * alpha1 + beta3 * q1;
+        let p01 = alpha3 * beta1 + beta3 * q2;
+        let p10 = q3 * alpha1 + q4 * q1;
+        let p11 = q3 * beta1 + q4 * q2;
+        let a3 = p00 * an + p01 * anp1;
+        let b3 = p00 * bn + p01 * bnp1;
+        let a4 = p10 * an + p11 * anp1;
+        let b4 = p10 * bn + p11 * bnp1;
         let r0 = r;
-        let inv_b = 1.0 / b2;
-        r = a2 * inv_b;
+        let inv_b = 1.0 / b4;
+        r = a4 * inv_b;
+        // Tested on every fourth convergent against the one four terms
+        // back: stricter than BFRAC's test, at most three terms later.
         if (r - r0).abs() <= eps * r {
             break;
         }
-        an = a1 * inv_b;
-        bn = b1 * inv_b;
+        an = a3 * inv_b;
+        bn = b3 * inv_b;
         anp1 = r;
         bnp1 = 1.0;
     }
-    ln_prefactor + r.ln()
+    r
 }
 
-/// Temme's uniform asymptotic expansion of `ln I_x(a, b)` for a, b ≥ 15 near
+/// Temme's uniform asymptotic expansion of `I_x(a, b)` for a, b ≥ 15 near
 /// the mean, λ = (a + b)y − b ≥ 0, in the form of DiDonato & Morris 1992
 /// (routine BASYM: an erfc leading term plus up to 20 correction terms in
-/// powers of 1/√min(a, b)). `f` is the exponent a·rlog1(−λ/a) + b·rlog1(λ/b)
-/// and `correction` the BCORR term, both shared with the prefactor.
-fn ln_asymptotic(a: f64, b: f64, lambda: f64, eps: f64, f: f64, correction: f64) -> f64 {
+/// powers of 1/√min(a, b)), returned as the sum with
+/// `I_x(a, b) = (2/√π)·e^{−f−Δ}·sum`. `f` is the exponent
+/// a·rlog1(−λ/a) + b·rlog1(λ/b), shared with the prefactor, and Δ the
+/// BCORR term.
+fn asymptotic_sum(a: f64, b: f64, lambda: f64, eps: f64, f: f64) -> f64 {
     const NUM: usize = 20;
     const E0: f64 = std::f64::consts::FRAC_2_SQRT_PI;
     const E1: f64 = 0.353_553_390_593_274; // 2^(−3/2)
-    const LN_E0: f64 = 0.120_782_237_635_245;
     debug_assert!(lambda >= 0.0);
     let z0 = f.sqrt();
     let z = z0 / E1 * 0.5;
@@ -434,18 +491,58 @@ fn ln_asymptotic(a: f64, b: f64, lambda: f64, eps: f64, f: f64, correction: f64)
     let mut w = w0;
     let mut znm1 = z;
     let mut zn = z2;
+    let a0 = a_coef[0];
+    let (mut a1, mut a2) = (0.0, 0.0);
     let mut n = 2;
     while n <= NUM {
         hn *= h2;
-        a_coef[n - 1] = r0 * 2.0 * (h * hn + 1.0) / (n as f64 + 2.0);
+        let a_nm1 = r0 * 2.0 * (h * hn + 1.0) / (n as f64 + 2.0);
         let np1 = n + 1;
         s += hn;
-        a_coef[np1 - 1] = r1 * 2.0 * s / (n as f64 + 3.0);
+        let a_n = r1 * 2.0 * s / (n as f64 + 3.0);
+        a_coef[n - 1] = a_nm1;
+        a_coef[np1 - 1] = a_n;
         // d_n and d_{n+1} come back in registers: reading them from the
         // array right after the scalar stores would be one 16-byte load over
-        // two fresh 8-byte stores, which defeats store forwarding.
-        let d_n = next_d_coefficient(n, &a_coef, &mut b_coef, &mut c_coef, &mut d_coef);
-        let d_np1 = next_d_coefficient(np1, &a_coef, &mut b_coef, &mut c_coef, &mut d_coef);
+        // two fresh 8-byte stores, which defeats store forwarding. The first
+        // two passes (all that a, b ≳ 10³ need) use d_1…d_4 written out as
+        // polynomials in a_0…a_4, which is DM's recursion for b, c and d
+        // expanded by hand (checked against it in the tests below); the
+        // arrays are filled only if a third pass is needed.
+        let (d_n, d_np1) = match n {
+            2 => {
+                a1 = a_nm1;
+                a2 = a_n;
+                (
+                    0.5 * a1 - 0.375 * a0 * a0,
+                    a0 * (0.5 * a0 * a0 - a1) + 0.5 * a2,
+                )
+            }
+            4 => {
+                let (a3, a4) = (a_nm1, a_n);
+                let a00 = a0 * a0;
+                let d3 = a00 * (a1 * (35.0 / 16.0) - a00 * (105.0 / 128.0))
+                    - a0 * a2 * 1.25
+                    - a1 * a1 * 0.625
+                    + 0.5 * a3;
+                let d4 = a00 * (a0 * (1.5 * a00 - 5.0 * a1) + 3.0 * a2)
+                    + a0 * (3.0 * a1 * a1 - 1.5 * a3)
+                    - 1.5 * a1 * a2
+                    + 0.5 * a4;
+                (d3, d4)
+            }
+            _ => {
+                if n == 6 {
+                    for i in 2..=5 {
+                        next_d_coefficient(i, &a_coef, &mut b_coef, &mut c_coef, &mut d_coef);
+                    }
+                }
+                (
+                    next_d_coefficient(n, &a_coef, &mut b_coef, &mut c_coef, &mut d_coef),
+                    next_d_coefficient(np1, &a_coef, &mut b_coef, &mut c_coef, &mut d_coef),
+                )
+            }
+        };
         j0 = E1 * znm1 + (n as f64 - 1.0) * j0;
         j1 = E1 * zn + n as f64 * j1;
         znm1 *= z2;
@@ -469,7 +566,7 @@ fn ln_asymptotic(a: f64, b: f64, lambda: f64, eps: f64, f: f64, correction: f64)
         previous = current;
         n += 2;
     }
-    LN_E0 - f - correction + sum.ln()
+    sum
 }
 
 /// 1/m for m = 1..=22 (entry 0 unused).
@@ -521,6 +618,38 @@ fn next_d_coefficient(
     d
 }
 
+/// A starting point for the iteration: x and y = 1 − x, both to full
+/// relative precision, with their logarithms where the starting value came
+/// with them for free.
+#[derive(Clone, Copy, Debug)]
+struct Start {
+    x: f64,
+    y: f64,
+    ln_x: Option<f64>,
+    ln_y: Option<f64>,
+}
+
+impl Start {
+    fn new(x: f64, y: f64) -> Self {
+        Start {
+            x,
+            y,
+            ln_x: None,
+            ln_y: None,
+        }
+    }
+
+    /// The same point seen from the other parameter (x ↔ y).
+    fn swapped(self) -> Self {
+        Start {
+            x: self.y,
+            y: self.x,
+            ln_x: self.ln_y,
+            ln_y: self.ln_x,
+        }
+    }
+}
+
 /// x ∈ [0, 1] with `I_x(a, b) = probability` (tail = Lower) or
 /// `1 − I_x(a, b) = probability` (tail = Upper), for a, b ≥ 1 and
 /// 0 ≤ probability ≤ 1. Relative accuracy of x is about 1e-14.
@@ -557,21 +686,30 @@ pub fn inverse_incomplete_beta(a: f64, b: f64, tail: Tail, probability: f64) -> 
         };
         return ln_x.exp();
     }
+    // Solve for the tail whose probability is at most 1/2 (1 − p is exact
+    // for p ≥ 1/2): the iteration works with ln T, whose slope in ln x is
+    // ±x·density/T, and a tail near 1 would make that slope tiny, so that
+    // the stopping rule in units of ln T would accept a poor x.
+    let (tail, probability) = if probability > 0.5 {
+        (flip(tail), 1.0 - probability)
+    } else {
+        (tail, probability)
+    };
     // ln p once, shared by the starting value and the iteration.
     let ln_probability = probability.ln();
-    let (x_guess, y_guess) = initial_guess(a, b, tail, probability, ln_probability);
+    let guess = initial_guess(a, b, tail, probability, ln_probability);
     let solve = |a, b, tail, start| solve_in_ln_x(a, b, tail, ln_probability, start);
-    if x_guess <= 0.5 {
-        let x = solve(a, b, tail, (x_guess, y_guess));
+    if guess.x <= 0.5 {
+        let x = solve(a, b, tail, guess);
         if x > 0.75 {
             // The guess was on the wrong side: iterate on y for accuracy.
-            return 1.0 - solve(b, a, flip(tail), (1.0 - x, x));
+            return 1.0 - solve(b, a, flip(tail), Start::new(1.0 - x, x));
         }
         x
     } else {
-        let y = solve(b, a, flip(tail), (y_guess, x_guess));
+        let y = solve(b, a, flip(tail), guess.swapped());
         if y > 0.75 {
-            return solve(a, b, tail, (1.0 - y, y));
+            return solve(a, b, tail, Start::new(1.0 - y, y));
         }
         1.0 - y
     }
@@ -589,7 +727,7 @@ fn flip(tail: Tail) -> Tail {
 /// Cran, Martin & Thomas 1977 (AS 109), after Majumder & Bhattacharjee 1973:
 /// for p, q > 1 the normal approximation of Abramowitz & Stegun 26.5.22 on the
 /// logit scale; otherwise a chi-square (Wilson–Hilferty) or power-law form.
-fn initial_guess(a: f64, b: f64, tail: Tail, probability: f64, ln_probability: f64) -> (f64, f64) {
+fn initial_guess(a: f64, b: f64, tail: Tail, probability: f64, ln_probability: f64) -> Start {
     // One small integer parameter against a large one (binomial bounds with
     // few errors, or few successes): the gamma limit is far closer than AS 109.
     if is_small_integer(a) && b >= SMALL_PARAMETER_RATIO * a {
@@ -601,10 +739,10 @@ fn initial_guess(a: f64, b: f64, tail: Tail, probability: f64, ln_probability: f
     }
     if is_small_integer(b) && a >= SMALL_PARAMETER_RATIO * b {
         // I_x(a, b) = 1 − I_y(b, a): the lower tail in x is the upper tail in y.
-        if let Some((y, x)) =
+        if let Some(start) =
             small_parameter_guess(b, a, tail == Tail::Upper, probability, ln_probability)
         {
-            return (x, y);
+            return start.swapped();
         }
     }
     // AS 109 works with a lower-tail probability α ≤ 1/2: swap roles if needed.
@@ -624,14 +762,13 @@ fn initial_guess(a: f64, b: f64, tail: Tail, probability: f64, ln_probability: f
     };
     let alpha = clamped;
     let (pp, qq) = if lower_small { (a, b) } else { (b, a) };
-    let y = normal_upper_deviate_given_ln(alpha, ln_alpha);
+    let y = normal_upper_deviate_start(alpha, ln_alpha);
     let (xs, ys) = as109_guess(pp, qq, alpha, y);
     let (x, y) = if lower_small { (xs, ys) } else { (ys, xs) };
     if x.is_finite() && y.is_finite() && x > 0.0 && y > 0.0 {
-        (x, y)
+        Start::new(x, y)
     } else {
-        let mean = a / (a + b);
-        (mean, b / (a + b))
+        Start::new(a / (a + b), b / (a + b))
     }
 }
 
@@ -669,7 +806,7 @@ fn small_parameter_guess(
     lower: bool,
     probability: f64,
     ln_probability: f64,
-) -> Option<(f64, f64)> {
+) -> Option<Start> {
     // Solve on whichever gamma tail is at most 1/2.
     let (solve_lower, target, ln_target) = if (f64::MIN_POSITIVE..=0.5).contains(&probability) {
         (lower, probability, ln_probability)
@@ -679,38 +816,52 @@ fn small_parameter_guess(
         let complement = (1.0 - probability).max(f64::MIN_POSITIVE);
         (!lower, complement, complement.ln())
     };
-    // ln s! (s ≤ 30, so s! < 3e32 is exact enough as a float product).
-    let mut factorial = 1.0;
-    let mut j = 2.0;
-    while j <= s {
-        factorial *= j;
-        j += 1.0;
-    }
-    let ln_factorial_s = factorial.ln();
+    // ln s! (s ≤ 30, so s! < 3e32 is exact enough as a float product); only
+    // the lower-tail series needs it.
+    let ln_factorial_s = if solve_lower {
+        let mut factorial = 1.0;
+        let mut j = 2.0;
+        while j <= s {
+            factorial *= j;
+            j += 1.0;
+        }
+        factorial.ln()
+    } else {
+        0.0
+    };
 
     // Wilson–Hilferty: μ ≈ s·(1 − 1/(9s) ± z/(3√s))³, + for the upper tail.
     // For the lower tail the leading term P(s, μ) ≈ μˢ e^{−μ·s/(s+1)}/s! of
     // the series is the better start while it stays below the median (the
     // exponent is a first-order correction of e^{−μ}·Σ μⁱ/((s+1)…(s+i))).
-    let z = normal_upper_deviate_given_ln(target, ln_target);
+    // μ is carried together with ln μ once the latter has been formed (NaN
+    // before): the Poisson sum needs only μ.
+    let z = normal_upper_deviate_start(target, ln_target);
     let nine_s = 9.0 * s;
-    let mut u = if solve_lower {
+    // Parameter-only reciprocals, formed off the path from p to x.
+    let inv_sqrt_nine_s = 1.0 / nine_s.sqrt();
+    let inv_shifted_l = 1.0 / (l + 0.5 * (s - 1.0));
+    let wilson_hilferty = |sign: f64| {
+        let base = 1.0 - 1.0 / nine_s + sign * z * inv_sqrt_nine_s;
+        let base = if solve_lower { base.max(0.2) } else { base };
+        s * (base * base * base)
+    };
+    let (mut mu, mut ln_mu) = if solve_lower {
         let u0 = (ln_target + ln_factorial_s) / s;
         let u1 = u0 + u0.exp() / (s + 1.0);
         if s < 5.0 && u1 < s.ln() {
-            u1
+            (u1.exp(), u1)
         } else {
-            let base = 1.0 - 1.0 / nine_s - z / nine_s.sqrt();
-            s.ln() + 3.0 * base.max(0.2).ln()
+            (wilson_hilferty(-1.0), f64::NAN)
         }
     } else {
-        let base = 1.0 - 1.0 / nine_s + z / nine_s.sqrt();
-        s.ln() + 3.0 * base.ln()
+        (wilson_hilferty(1.0), f64::NAN)
     };
     for _ in 0..12 {
-        let mu = u.exp();
-        // ln T and g1 = d ln T / d ln μ; μ·density = e^{−μ} μˢ/(s − 1)!.
-        let (ln_tail, g1) = if solve_lower && mu < s {
+        // ln T and g1 = d ln T / d ln μ = g_num/g_den (g_den > 0, kept as a
+        // fraction so that the step below takes one division);
+        // μ·density = e^{−μ} μˢ/(s − 1)!.
+        let (ln_tail, g_num, g_den) = if solve_lower && mu < s {
             let mut term = 1.0;
             let mut sum = 1.0;
             let mut i = 1.0;
@@ -722,7 +873,10 @@ fn small_parameter_guess(
                 }
                 i += 1.0;
             }
-            (s * u - mu - ln_factorial_s + sum.ln(), s / sum)
+            if ln_mu.is_nan() {
+                ln_mu = mu.ln();
+            }
+            (s * ln_mu - mu - ln_factorial_s + sum.ln(), s, sum)
         } else {
             // Σ_{j<s} μʲ/j!; the last term μ^(s−1)/(s−1)! times μ is e^μ·μ·density.
             let mut term = 1.0;
@@ -736,46 +890,63 @@ fn small_parameter_guess(
             let ln_upper = -mu + sum.ln();
             if solve_lower {
                 let ln_lower = ln_one_minus_exp(ln_upper);
-                (ln_lower, (-mu + (term * mu).ln() - ln_lower).exp())
+                (ln_lower, (-mu + (term * mu).ln() - ln_lower).exp(), 1.0)
             } else {
-                (ln_upper, -term * mu / sum)
+                (ln_upper, -term * mu, sum)
             }
         };
         let h = ln_tail - ln_target;
-        if !(h.is_finite() && g1.is_finite() && g1 != 0.0) {
+        if !(h.is_finite() && g_num.is_finite() && g_num != 0.0 && g_den.is_finite()) {
             return None;
         }
+        // Halley: newton = −h/g1 divided by the correction
+        // 1 − h·g2/(2g1²) with g2 = g1(ψ1 − g1), ψ1 = s − μ, i.e. by
+        // d/g_num with d = g_num(1 + h/2) − (h/2)·ψ1·g_den.
         let psi1 = s - mu;
-        let g2 = g1 * (psi1 - g1);
-        let newton = -h / g1;
-        let correction = 1.0 - h * g2 / (2.0 * g1 * g1);
-        let step = if correction > 0.5 && correction < 2.0 {
-            newton / correction
+        let denominator = g_num * (1.0 + 0.5 * h) - 0.5 * h * psi1 * g_den;
+        let halley = if g_num > 0.0 {
+            denominator > 0.5 * g_num && denominator < 2.0 * g_num
         } else {
-            newton
+            denominator < 0.5 * g_num && denominator > 2.0 * g_num
         };
+        let step = -h * g_den / if halley { denominator } else { g_num };
         let step = step.clamp(-2.0, 2.0);
-        u += step;
         // Halley's error after a step of size e is O(e³): once |e| ≤ 0.02 the
         // gamma root is within about 1e-5, well inside the 2e-3 in ln T that
         // one exact fourth-order step corrects to rounding level (a worse
         // start only costs a second exact evaluation, never accuracy).
         if step.abs() <= 0.02 {
-            let xi = u.exp() / (l + 0.5 * (s - 1.0));
+            // μ·e^step by its Taylor polynomial (remainder below 3e-11, far
+            // inside the error of the gamma limit itself).
+            let mu = mu * (1.0 + step * (1.0 + step * (0.5 + step * (1.0 / 6.0 + step / 24.0))));
+            let xi = mu * inv_shifted_l;
             let (x, y) = (-(-xi).exp_m1(), (-xi).exp());
-            return (x > 0.0 && y > 0.0 && x.is_finite()).then_some((x, y));
+            // ln y = −ξ exactly: the evaluation then needs no log1p.
+            return (x > 0.0 && y > 0.0 && x.is_finite()).then_some(Start {
+                x,
+                y,
+                ln_x: None,
+                ln_y: Some(-xi),
+            });
         }
+        if ln_mu.is_nan() {
+            ln_mu = mu.ln();
+        }
+        ln_mu += step;
+        mu = ln_mu.exp();
     }
     None
 }
 
 fn as109_guess(pp: f64, qq: f64, alpha: f64, y: f64) -> (f64, f64) {
     if pp > 1.0 && qq > 1.0 {
-        let r = (y * y - 3.0) / 6.0;
+        let r = (y * y - 3.0) * (1.0 / 6.0);
         let s = 1.0 / (pp + pp - 1.0);
         let t = 1.0 / (qq + qq - 1.0);
+        // h = 2/(s + t); 1/h is formed directly, off the path from y.
+        let inv_h = 0.5 * (s + t);
         let h = 2.0 / (s + t);
-        let w = y * (h + r).sqrt() / h - (t - s) * (r + 5.0 / 6.0 - 2.0 / (3.0 * h));
+        let w = y * (h + r).sqrt() * inv_h - (t - s) * (r + 5.0 / 6.0 - (2.0 / 3.0) * inv_h);
         if w.is_finite() {
             // x = pp/(pp + qq·e^{2w}), complement qq·e^{2w}/(pp + qq·e^{2w}).
             let e = (2.0 * w).exp();
@@ -813,7 +984,7 @@ fn as109_guess(pp: f64, qq: f64, alpha: f64, y: f64) -> (f64, f64) {
 /// from the density in closed form, so one evaluation gives an error of order
 /// h⁵. Farther out a Halley (or Newton) step is taken; a step that leaves the
 /// bracket is replaced by bisection.
-fn solve_in_ln_x(a: f64, b: f64, tail: Tail, ln_target: f64, start: (f64, f64)) -> f64 {
+fn solve_in_ln_x(a: f64, b: f64, tail: Tail, ln_target: f64, start: Start) -> f64 {
     let upper = tail == Tail::Upper;
     let sign = if upper { -1.0 } else { 1.0 };
     // Bracket in t: the solution is above ln(smallest subnormal) and below 0.
@@ -821,25 +992,29 @@ fn solve_in_ln_x(a: f64, b: f64, tail: Tail, ln_target: f64, start: (f64, f64)) 
     let mut t_hi = 0.0_f64;
     // The starting point comes with its complement (both accurate), which
     // saves the exp/expm1 pair on the first pass.
-    let (mut x_first, mut y_first) = start;
-    if !(x_first > 0.0 && y_first > 0.0) {
-        (x_first, y_first) = (0.5, 0.5);
-    }
-    let mut t = x_first.max(1e-300).ln();
+    let start = if start.x > 0.0 && start.y > 0.0 {
+        start
+    } else {
+        Start::new(0.5, 0.5)
+    };
+    let mut t = match start.ln_x {
+        Some(ln_x) if start.x >= 1e-300 => ln_x,
+        _ => start.x.max(1e-300).ln(),
+    };
     let mut first = true;
     for _ in 0..200 {
-        let (x, y) = if first {
+        let (x, y, ln_y) = if first {
             first = false;
-            (x_first, y_first)
+            (start.x, start.y, start.ln_y)
         } else {
-            (t.exp(), -t.exp_m1())
+            (t.exp(), -t.exp_m1(), None)
         };
         if x <= 0.0 || y <= 0.0 {
             // Outside the representable interior: bisect.
             t = 0.5 * (t_lo + t_hi);
             continue;
         }
-        let (ln_tail, ln_prefactor) = ln_tail_at(a, b, x, y, t, upper);
+        let (ln_tail, inverse_slope) = ln_tail_at(a, b, x, y, t, ln_y, upper);
         let h = ln_tail - ln_target;
         if h == 0.0 {
             return x;
@@ -854,11 +1029,15 @@ fn solve_in_ln_x(a: f64, b: f64, tail: Tail, ln_target: f64, start: (f64, f64)) 
         // ψ'' = −(b−1)x/y², ψ''' = −(b−1)x(1+x)/y³, and
         // g2 = g1(ψ' − g1), g3 = g2(ψ' − g1) + g1(ψ'' − g2),
         // g4 = g3(ψ' − g1) + 2g2(ψ'' − g2) + g1(ψ''' − g3).
-        let g1 = sign * (ln_prefactor - ln_tail).exp() / y;
+        // 1/g1 comes without a division; g1 itself is formed alongside
+        // the logarithm that produced ln T.
+        let i1 = sign * inverse_slope;
+        let g1 = sign / inverse_slope;
         let mut step = f64::NAN;
         let mut order = 0;
-        // Size of the first neglected term of the reversion series (order 4).
-        let mut truncation = f64::INFINITY;
+        // Whether the first neglected term of the reversion series (order 5)
+        // is below 1e-14.
+        let mut truncated = false;
         if g1.is_finite() && g1 != 0.0 {
             let ratio = x / y;
             let psi1 = a - (b - 1.0) * ratio;
@@ -869,27 +1048,30 @@ fn solve_in_ln_x(a: f64, b: f64, tail: Tail, ln_target: f64, start: (f64, f64)) 
                 let psi3 = psi2 * (1.0 + x) / y;
                 let g3 = g2 * q + g1 * (psi2 - g2);
                 let g4 = g3 * q + 2.0 * g2 * (psi2 - g2) + g1 * (psi3 - g3);
-                // Reversion of du = c1·dt + c2·dt² + c3·dt³ + c4·dt⁴.
-                let (c1, c2, c3, c4) = (g1, g2 / 2.0, g3 / 6.0, g4 / 24.0);
-                let du = -h;
-                let i1 = 1.0 / c1;
-                let k2 = -c2 * i1 * i1 * i1;
-                let k3 = (2.0 * c2 * c2 - c1 * c3) * i1.powi(5);
-                let k4 = (5.0 * c1 * c2 * c3 - c1 * c1 * c4 - 5.0 * c2 * c2 * c2) * i1.powi(7);
-                let terms = [i1 * du, k2 * du * du, k3 * du.powi(3), k4 * du.powi(4)];
+                // Reversion of du = c1·dt + c2·dt² + c3·dt³ + c4·dt⁴ with
+                // c_m = g_m/m!: in the Newton step e = du/c1 and u_m = c_m/c1,
+                // dt = e − u2·e² + (2u2² − u3)·e³ + (5u2·u3 − u4 − 5u2³)·e⁴.
+                let e = -h * i1;
+                let (u2, u3, u4) = (g2 * i1 / 2.0, g3 * i1 / 6.0, g4 * i1 / 24.0);
+                let e2 = e * e;
+                let terms = [
+                    e,
+                    -u2 * e2,
+                    (2.0 * u2 * u2 - u3) * (e2 * e),
+                    (5.0 * u2 * (u3 - u2 * u2) - u4) * (e2 * e2),
+                ];
                 // Use the series only while it visibly converges.
                 if terms[1].abs() <= 0.5 * terms[0].abs()
                     && terms[3].abs() <= terms[2].abs() + 1e-300
                 {
-                    step = terms[0] + terms[1] + terms[2] + terms[3];
+                    step = (terms[0] + terms[1]) + (terms[2] + terms[3]);
                     order = 4;
                     // The fifth term, extrapolated from the largest ratio of
-                    // consecutive terms seen (a conservative geometric bound).
-                    let ratio = (terms[1] / terms[0])
-                        .abs()
-                        .max((terms[2] / terms[1]).abs())
-                        .max((terms[3] / terms[2]).abs());
-                    truncation = terms[3].abs() * ratio;
+                    // consecutive terms seen (a conservative geometric bound),
+                    // compared without dividing: |t3|·|t_{m+1}/t_m| ≤ 1e-14.
+                    let [t0, t1, t2, t3] = terms.map(f64::abs);
+                    truncated =
+                        t3 * t1 <= 1e-14 * t0 && t3 * t2 <= 1e-14 * t1 && t3 * t3 <= 1e-14 * t2;
                 }
             }
             if order == 0 {
@@ -917,12 +1099,13 @@ fn solve_in_ln_x(a: f64, b: f64, tail: Tail, ln_target: f64, start: (f64, f64)) 
                 3 => 1e-5,
                 _ => 1e-8,
             };
-            if h.abs() <= threshold || step.abs() <= 1e-14 || truncation <= 1e-14 {
+            if h.abs() <= threshold || step.abs() <= 1e-14 || truncated {
                 let t_new = (t + step).clamp(t_lo, t_hi);
-                let s = t_new - t;
+                let s = if t_new == t + step { step } else { t_new - t };
                 if s.abs() <= 1e-3 {
                     // x·e^s by its Taylor series (remainder s⁵/120 < 1e-17).
-                    return x * (1.0 + s * (1.0 + s * (0.5 + s * (1.0 / 6.0 + s / 24.0))));
+                    let s2 = s * s;
+                    return x + x * (s + s2 * ((0.5 + s * (1.0 / 6.0)) + s2 * (1.0 / 24.0)));
                 }
                 t = t_new;
                 break;
@@ -951,5 +1134,64 @@ mod tests {
         assert!((w1 - 0.8f64.powi(5)).abs() < 1e-15);
         let (w, _) = incomplete_beta(3.0, 1.0, 0.2, 0.8);
         assert!((w - 0.008).abs() < 1e-17);
+    }
+
+    #[test]
+    fn probability_above_one_half_solves_the_other_tail() {
+        // 1 − I_x(1.3119…, 1.6880…) = 0.99602… has x = 0.00917841978696388
+        // (mpmath findroot on betainc at 40 digits); solving ln T = ln p on
+        // the tail near 1 used to stop 3 % short.
+        let k = 0.311_912_596_957_006_f64;
+        let x = inverse_incomplete_beta(k + 1.0, 2.0 - k, Tail::Upper, 0.996_024_632_501_740_9);
+        let want = 0.009_178_419_786_963_878;
+        assert!((x / want - 1.0).abs() < 1e-12, "{x}");
+        let x =
+            inverse_incomplete_beta(k + 1.0, 2.0 - k, Tail::Lower, 1.0 - 0.996_024_632_501_740_9);
+        assert!((x / want - 1.0).abs() < 1e-12, "{x}");
+    }
+
+    #[test]
+    fn basym_closed_form_coefficients_match_recursion() {
+        // d_1…d_4 as used in `asymptotic_sum` against `next_d_coefficient`.
+        for &(h, r1) in &[
+            (0.3, 0.7),
+            (1.0, 0.0),
+            (0.01, 0.99),
+            (0.9, -0.1),
+            (0.5, 0.5),
+        ] {
+            let r0 = 1.0 / (1.0 + h);
+            let mut a = [0.0f64; 21];
+            a[0] = r1 * (2.0 / 3.0);
+            let (mut hn, mut s) = (1.0, 1.0);
+            for n in [2usize, 4] {
+                hn *= h * h;
+                a[n - 1] = r0 * 2.0 * (h * hn + 1.0) / (n as f64 + 2.0);
+                s += hn;
+                a[n] = r1 * 2.0 * s / (n as f64 + 3.0);
+            }
+            let (mut b, mut c, mut d) = ([0.0f64; 21], [0.0f64; 21], [0.0f64; 21]);
+            c[0] = -0.5 * a[0];
+            d[0] = -c[0];
+            let recursion: Vec<f64> = (2..=5)
+                .map(|i| next_d_coefficient(i, &a, &mut b, &mut c, &mut d))
+                .collect();
+            let (a0, a1, a2, a3, a4) = (a[0], a[1], a[2], a[3], a[4]);
+            let closed = [
+                0.5 * a1 - 0.375 * a0 * a0,
+                a0 * (0.5 * a0 * a0 - a1) + 0.5 * a2,
+                a0 * a0 * (a1 * (35.0 / 16.0) - a0 * a0 * (105.0 / 128.0))
+                    - a0 * a2 * 1.25
+                    - a1 * a1 * 0.625
+                    + 0.5 * a3,
+                a0 * a0 * (a0 * (1.5 * a0 * a0 - 5.0 * a1) + 3.0 * a2)
+                    + a0 * (3.0 * a1 * a1 - 1.5 * a3)
+                    - 1.5 * a1 * a2
+                    + 0.5 * a4,
+            ];
+            for (r, c) in recursion.iter().zip(closed.iter()) {
+                assert!((r - c).abs() <= 1e-15 * (1.0 + r.abs()), "{r} vs {c}");
+            }
+        }
     }
 }
