@@ -22,6 +22,10 @@ EXACT = ["candidates", "holdout_misclassified", "vc_dim", "verdict", "holdout_ne
 def main(ours_path, theirs_path):
     ours = pd.read_csv(ours_path, keep_default_na=True).set_index("source")
     theirs = pd.read_csv(theirs_path, keep_default_na=True).set_index("source")
+    if "selection_k" in theirs:
+        # The reference script keeps the logged candidates and writes K apart;
+        # gapcert's `candidates` is K (README, decisions).
+        theirs["candidates"] = theirs["selection_k"]
     if len(ours) != len(theirs) or not ours.index.equals(theirs.index):
         print(f"different runs: {len(ours)} vs {len(theirs)}")
         return 1
@@ -42,9 +46,10 @@ def main(ours_path, theirs_path):
                 if problems <= 10:
                     print(f"{source} {column}: {a!r} vs {b!r}")
     for column in EXACT:
-        left = ours[column].astype(str)
-        right = theirs[column].astype(str)
-        for source, a, b in zip(ours.index, left, right):
+        for source, a, b in zip(ours.index, ours[column], theirs[column]):
+            if pd.isna(a) and pd.isna(b):
+                continue
+            a, b = str(a), str(b)
             if a != b and not (_number(a) is not None and _number(a) == _number(b)):
                 problems += 1
                 if problems <= 10:

@@ -218,6 +218,17 @@ def holdout_needed_hoeffding(rate: float, claim: float, alpha: float):
     return math.ceil(math.log(1.0 / alpha) / (2.0 * (claim - rate) ** 2))
 
 
+def errors_at(rate, n):
+    """Errors counted at n examples with the given rate: ceil(rate*n), where a product
+    within 1e-12 (relative) of an integer is that integer (0.03 * 100 is 3 errors, not 4,
+    despite floating-point rounding). The same reading as gapcert's sample_size.rs."""
+    product = rate * np.asarray(n, dtype=np.float64)
+    nearest = np.round(product)
+    exact = np.abs(product - nearest) <= 1e-12 * np.maximum(nearest, 1.0)
+    counted = np.where(exact, nearest, np.ceil(product)).astype(np.int64)
+    return counted if counted.ndim else int(counted)
+
+
 @lru_cache(maxsize=None)
 def holdout_needed_binomial(rate: float, claim: float, alpha: float):
     """Smallest n with upper(ceil(rate*n), n, alpha) <= claim.
@@ -246,15 +257,26 @@ def holdout_needed_binomial(rate: float, claim: float, alpha: float):
             lo, hi = (lo, mid) if passes(0, mid) else (mid, hi)
         return hi
 
+    # Nothing below n_lo can pass: with real k, upper(rate*n, n) is a lower envelope
+    # of upper(ceil(rate*n), n) that falls as n grows; bisect for where it reaches the
+    # claim, and start the stretch scan a few k below it (slack for rounding).
+    def envelope_passes(n):
+        k = max(0.0, rate * n * (1.0 - 2e-12) - 2e-12)
+        return n - k >= 1 and float(stats.beta.ppf(1.0 - alpha, k + 1.0, n - k)) <= claim
+
+    lo, hi = 0, n_max
+    while hi - lo > 1:
+        mid = (lo + hi) // 2
+        lo, hi = (lo, mid) if envelope_passes(mid) else (mid, hi)
     k_max = math.ceil(rate * n_max)
-    k0 = 1
+    k0 = max(1, math.ceil(rate * hi * (1.0 - 1e-6)) - 3)
     while k0 <= k_max:
         ks = np.arange(k0, min(k0 + 65536, k_max + 1), dtype=np.int64)
         n_end = np.floor(ks / rate).astype(np.int64)
-        # exact float semantics: the largest n with ceil(rate*n) == k
-        n_end = np.where(rate * (n_end + 1) <= ks, n_end + 1, n_end)
-        n_end = np.where(rate * n_end > ks, n_end - 1, n_end)
-        valid = (n_end >= 1) & (np.ceil(rate * n_end) == ks)
+        # the largest n with errors_at(n) == k
+        n_end = np.where(errors_at(rate, n_end + 1) == ks, n_end + 1, n_end)
+        n_end = np.where(errors_at(rate, n_end) > ks, n_end - 1, n_end)
+        valid = (n_end >= 1) & (errors_at(rate, n_end) == ks)
         ok = valid & (binomial_upper(ks, n_end, alpha) <= claim)
         if ok.any():
             i = int(np.argmax(ok))
@@ -262,11 +284,11 @@ def holdout_needed_binomial(rate: float, claim: float, alpha: float):
             # Bisect on "n is in stretch k and passes": false before the stretch
             # (ceil(rate*n) < k there), false-then-true inside it.
             lo = max(0, math.floor((k - 1) / rate) - 2)
-            if lo and math.ceil(rate * lo) >= k:
+            if lo and errors_at(rate, lo) >= k:
                 lo = 0
             while hi - lo > 1:
                 mid = (lo + hi) // 2
-                if math.ceil(rate * mid) == k and passes(k, mid):
+                if errors_at(rate, mid) == k and passes(k, mid):
                     hi = mid
                 else:
                     lo = mid

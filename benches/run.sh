@@ -5,15 +5,15 @@
 #      on the same file (median of REPEATS runs each; target ratio <= 3);
 #   2. peak resident memory auditing 10,000,000 runs from Parquet (target <= 4 GB);
 #   3. the pandas + scipy reference script vs gapcert on the same file (target >= 10x).
-# Usage: [ROWS=1000000] [BIG_ROWS=10000000] [PY_ROWS=1000] [REPEATS=5] benches/run.sh
-# PY_ROWS is small because the Python script needs about a tenth of a second per run
+# Usage: [ROWS=1000000] [BIG_ROWS=10000000] [PY_ROWS=10000] [REPEATS=5] benches/run.sh
+# PY_ROWS is smaller because the Python script needs about 30 ms per run
 # (its exact holdout_needed search calls scipy once per candidate n).
 set -euo pipefail
 cd "$(dirname "$0")/.."
 ROWS=${ROWS:-1000000}
 BIG_ROWS=${BIG_ROWS:-10000000}
 REPEATS=${REPEATS:-5}
-PY_ROWS=${PY_ROWS:-1000}
+PY_ROWS=${PY_ROWS:-10000}
 export CARGO_TARGET_DIR="${CARGO_TARGET_DIR:-/root/.cache/gapcert-target}"
 BIN="$CARGO_TARGET_DIR/release"
 DATA=bench-data

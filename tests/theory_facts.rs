@@ -288,3 +288,25 @@ fn sample_size_edges() {
     }
     assert_eq!(holdout_needed_hoeffding(0.0, 1e-300, 0.05), Some(u64::MAX));
 }
+
+/// A held-out sample size near 7·10⁷ from an invented sweep log, where the count
+/// slack of `errors_at` once made the search skip the answer. Reference:
+/// scripts/large_sample_size.py (exact rational ceil(rate·n), binomial tail
+/// summed in mpmath 1.3.0 at 40 digits) prints 69735213; the stretches of n
+/// just below it fail, which the script also checks.
+#[test]
+fn large_sample_size_matches_exact_rational_reference() {
+    use gapcert::theory::binomial::upper_bound;
+    use gapcert::theory::sample_size::{errors_at, holdout_needed_binomial};
+    let (rate, claim, alpha) = (
+        0.2248581071203849,
+        0.22499999999999998,
+        0.002272727272727275,
+    );
+    assert_eq!(holdout_needed_binomial(rate, claim, alpha), Some(69735213));
+    // ceil(rate·n) exactly: 15680528 at the answer, 15680527 just before its stretch.
+    assert_eq!(errors_at(rate, 69735213), 15680528);
+    assert_eq!(errors_at(rate, 69735208), 15680527);
+    assert!(upper_bound(15680528, 69735213, alpha) <= claim);
+    assert!(upper_bound(15680527, 69735208, alpha) > claim);
+}

@@ -10,13 +10,20 @@
 use super::beta::ln_incomplete_beta;
 use super::binomial::{upper_bound, upper_bound_real};
 
+/// Relative slack within which `rate·n` counts as the integer it rounds to.
+/// Floating-point products are off by a few units in the last place (~1e-16
+/// relative); 1e-12 absorbs that and nothing a logged rate can mean. (It was
+/// 1e-9 until a sweep log showed that at k ≈ 1.6·10⁷ that slack is 0.016 of
+/// a count, large enough to count a genuine fraction as the integer below.)
+const INTEGER_SLACK: f64 = 1e-12;
+
 /// Errors counted at n held-out examples with the given error rate:
-/// ⌈rate·n⌉, where a product within 1e-9 (relative) of an integer is taken as
-/// that integer, so that 0.03·100 counts 3 errors, not 4, despite rounding.
+/// ⌈rate·n⌉, where a product within a relative 1e-12 of an integer is taken
+/// as that integer, so that 0.03·100 counts 3 errors, not 4, despite rounding.
 pub fn errors_at(rate: f64, n: u64) -> u64 {
     let product = rate.max(0.0) * n as f64;
     let nearest = product.round();
-    let k = if (product - nearest).abs() <= 1e-9 * nearest.max(1.0) {
+    let k = if (product - nearest).abs() <= INTEGER_SLACK * nearest.max(1.0) {
         nearest
     } else {
         product.ceil()
@@ -97,12 +104,21 @@ pub fn holdout_needed_binomial(rate: f64, claim_error: f64, alpha: f64) -> Optio
         }
         return Some(n);
     }
-    let envelope = |extra: f64, n: u64| {
-        let (k, n) = (rate * n as f64 + extra, n as f64);
+    let envelope = |k: f64, n: u64| {
+        let n = n as f64;
         bound_at_most(k, n, alpha, claim_error, || upper_bound_real(k, n, alpha))
     };
-    let envelope_low = |n: u64| envelope(0.0, n);
-    let envelope_high = |n: u64| envelope(1.0, n);
+    // errors_at(n) may round a product down by its slack, so the low envelope
+    // starts that far below rate·n: it must never exceed the bound at the
+    // counted errors, or the search would skip a certifying n.
+    let envelope_low = |n: u64| {
+        let product = rate * n as f64;
+        envelope(
+            (product - 2.0 * INTEGER_SLACK * product.max(1.0)).max(0.0),
+            n,
+        )
+    };
+    let envelope_high = |n: u64| envelope(rate * n as f64 + 1.0, n);
     let n_lo = smallest_passing(1, envelope_low)?;
     let n_hi = smallest_passing(n_lo, envelope_high).unwrap_or(SEARCH_LIMIT);
     let mut n = n_lo;
