@@ -297,3 +297,51 @@ fn hand_written_json_lines_equal_serde_output() {
         String::from_utf8(serde).unwrap()
     );
 }
+
+/// A binary (not string) text column with one cell that is not UTF-8: each cell is
+/// converted on its own (the invalid bytes become U+FFFD), so the other cells keep
+/// their text and the table reads the same whole and in batches. Found by fuzzing
+/// (fuzz/regressions/ingest_arrow-binary-not-utf8.arrow): polars' cast of the whole
+/// column turned every cell into null.
+#[test]
+fn binary_text_column_reads_cell_by_cell() {
+    let folder = tempfile::tempdir().expect("temporary folder");
+    let splits: Vec<&[u8]> = vec![b"north", b"north", b"\xff\xfe", b"south"];
+    let mut df = df!(
+        "run" => ["a", "b", "c", "d"],
+        "holdout_n" => [100i64, 200, 300, 400],
+        "holdout_misclassified" => [1i64, 2, 3, 4],
+        "holdout_set" => splits,
+    )
+    .expect("frame");
+    let path = folder.path().join("binary.arrow");
+    IpcWriter::new(std::fs::File::create(&path).expect("create"))
+        .finish(&mut df)
+        .expect("write arrow");
+    let paths = [path];
+    let doc = gapcert::audit_paths(
+        &paths,
+        &AuditSettings::default(),
+        &IngestSettings::default(),
+    )
+    .expect("valid log");
+    let splits: Vec<Option<&str>> = doc.runs.iter().map(|r| r.holdout_set.as_deref()).collect();
+    assert_eq!(
+        splits,
+        [
+            Some("north"),
+            Some("north"),
+            Some("\u{fffd}\u{fffd}"),
+            Some("south")
+        ]
+    );
+    assert_eq!(
+        doc.runs[0].candidates, 2,
+        "the two north runs share a split"
+    );
+    assert_same_as_in_memory(
+        &paths,
+        &AuditSettings::default(),
+        &IngestSettings::default(),
+    );
+}

@@ -252,6 +252,19 @@ pub fn text_series(df: &DataFrame, index: usize) -> Option<Series> {
     let series = df.columns()[index].as_materialized_series();
     match series.dtype() {
         DataType::String => Some(series.clone()),
+        // Cell by cell: polars' cast validates a binary column's UTF-8 as a whole and
+        // nulls every cell if one is invalid, so a table would read differently whole
+        // and in batches (found by fuzzing ingest_arrow, see fuzz/regressions/). Bytes
+        // that are not UTF-8 are kept, with U+FFFD in place of the invalid ones.
+        DataType::Binary => {
+            let cells: Vec<Option<String>> = series
+                .binary()
+                .ok()?
+                .iter()
+                .map(|cell| cell.map(|bytes| String::from_utf8_lossy(bytes).into_owned()))
+                .collect();
+            Some(Series::new(series.name().clone(), cells))
+        }
         _ => series.cast(&DataType::String).ok(),
     }
 }
