@@ -220,11 +220,11 @@ def holdout_needed_hoeffding(rate: float, claim: float, alpha: float):
 
 def errors_at(rate, n):
     """Errors counted at n examples with the given rate: ceil(rate*n), where a product
-    within 1e-12 (relative) of an integer is that integer (0.03 * 100 is 3 errors, not 4,
+    within 1e-15 (relative) of an integer is that integer (0.03 * 100 is 3 errors, not 4,
     despite floating-point rounding). The same reading as gapcert's sample_size.rs."""
     product = rate * np.asarray(n, dtype=np.float64)
     nearest = np.round(product)
-    exact = np.abs(product - nearest) <= 1e-12 * np.maximum(nearest, 1.0)
+    exact = np.abs(product - nearest) <= 1e-15 * np.maximum(nearest, 1.0)
     counted = np.where(exact, nearest, np.ceil(product)).astype(np.int64)
     return counted if counted.ndim else int(counted)
 
@@ -261,7 +261,7 @@ def holdout_needed_binomial(rate: float, claim: float, alpha: float):
     # of upper(ceil(rate*n), n) that falls as n grows; bisect for where it reaches the
     # claim, and start the stretch scan a few k below it (slack for rounding).
     def envelope_passes(n):
-        k = max(0.0, rate * n * (1.0 - 2e-12) - 2e-12)
+        k = max(0.0, rate * n * (1.0 - 2e-15) - 2e-15)
         return n - k >= 1 and float(stats.beta.ppf(1.0 - alpha, k + 1.0, n - k)) <= claim
 
     lo, hi = 0, n_max

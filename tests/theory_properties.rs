@@ -149,3 +149,55 @@ proptest! {
         }
     }
 }
+
+/// Sample sizes far beyond any held-out set (n up to 5·10¹³, claims within 1e-7
+/// of the observed rate, taken from an invented sweep log), where the search
+/// walks stretches of equal k between its envelopes: the answer certifies with
+/// the exact bound (the inversion, not the tail test the search uses), the rest
+/// of its stretch below it does not, and neither do the ends of the 3000
+/// stretches before it.
+#[test]
+fn holdout_needed_binomial_is_minimal_at_huge_n() {
+    use gapcert::theory::sample_size::{errors_at, holdout_needed_binomial};
+    for (rate, claim, a) in [
+        (
+            0.034899925424290545,
+            0.03490000000000004,
+            0.0018518518518518534,
+        ),
+        (0.17239846159237454, 0.1724, 0.0025000000000000022),
+        (
+            0.2248581071203849,
+            0.22499999999999998,
+            0.002272727272727275,
+        ),
+        (
+            0.16080402010050251,
+            0.18469999999999998,
+            0.0012820512820512831,
+        ),
+    ] {
+        let n = holdout_needed_binomial(rate, claim, a).expect("rate < claim");
+        let certifies = |m: u64| binomial::upper_bound(errors_at(rate, m), m, a) <= claim;
+        assert!(certifies(n), "{rate} {claim} {a}: {n} does not certify");
+        let k = errors_at(rate, n);
+        let mut m = n - 1;
+        while m > 0 && errors_at(rate, m) == k {
+            assert!(!certifies(m), "{rate} {claim} {a}: {m} < {n} certifies");
+            m -= 1;
+        }
+        // m is now the end of the previous stretch; walk 3000 stretch ends down.
+        for _ in 0..3000 {
+            if m == 0 {
+                break;
+            }
+            assert!(!certifies(m), "{rate} {claim} {a}: {m} < {n} certifies");
+            let k = errors_at(rate, m);
+            let step = ((k as f64 - 1.0) / rate).floor() as u64;
+            m = step.min(m - 1);
+            while m > 0 && errors_at(rate, m) >= k {
+                m -= 1;
+            }
+        }
+    }
+}

@@ -11,14 +11,15 @@ use super::beta::ln_incomplete_beta;
 use super::binomial::{upper_bound, upper_bound_real};
 
 /// Relative slack within which `rate·n` counts as the integer it rounds to.
-/// Floating-point products are off by a few units in the last place (~1e-16
-/// relative); 1e-12 absorbs that and nothing a logged rate can mean. (It was
-/// 1e-9 until a sweep log showed that at k ≈ 1.6·10⁷ that slack is 0.016 of
-/// a count, large enough to count a genuine fraction as the integer below.)
-const INTEGER_SLACK: f64 = 1e-12;
+/// The double nearest a logged rate, times n, is off by at most about one
+/// unit in the last place (2.2e-16 relative); 1e-15 absorbs that and nothing
+/// a logged rate can mean. (It was 1e-9 until a sweep log showed that at
+/// k ≈ 1.6·10⁷ that slack is 0.016 of a count, enough to count a genuine
+/// fraction as the integer below.)
+const INTEGER_SLACK: f64 = 1e-15;
 
 /// Errors counted at n held-out examples with the given error rate:
-/// ⌈rate·n⌉, where a product within a relative 1e-12 of an integer is taken
+/// ⌈rate·n⌉, where a product within a relative 1e-15 of an integer is taken
 /// as that integer, so that 0.03·100 counts 3 errors, not 4, despite rounding.
 pub fn errors_at(rate: f64, n: u64) -> u64 {
     let product = rate.max(0.0) * n as f64;
@@ -31,10 +32,17 @@ pub fn errors_at(rate: f64, n: u64) -> u64 {
     (k as u64).min(n)
 }
 
-/// Largest n' in [from, to] with errors_at(rate, n') == errors_at(rate, from),
-/// by bisection (errors_at is non-decreasing in n).
-fn last_n_with_same_errors(rate: f64, from: u64, to: u64) -> u64 {
+/// Largest n' ≥ from with errors_at(rate, n') == errors_at(rate, from) (the
+/// end of from's stretch of equal k), by bisection over one stretch's length:
+/// errors_at is non-decreasing in n and a stretch holds at most ⌈1/rate⌉ + 1
+/// values of n (rate > 0).
+fn last_n_with_same_errors(rate: f64, from: u64) -> u64 {
     let k = errors_at(rate, from);
+    let stretch = (1.0 / rate).ceil().min(SEARCH_LIMIT as f64) as u64;
+    let to = from
+        .saturating_add(stretch)
+        .saturating_add(2)
+        .min(SEARCH_LIMIT);
     let (mut same, mut more) = (from, to);
     if errors_at(rate, to) == k {
         return to;
@@ -60,15 +68,17 @@ const SEARCH_LIMIT: u64 = 1 << 62;
 /// fixed and jumps up when k increases, so plain bisection on n is wrong.
 /// The search is exact:
 /// 1. Envelopes. With the continuous extension U(k, n) (real k), monotone in
-///    n at a fixed rate, ψ(n) = U(rate·n, n) ≤ U(⌈rate·n⌉, n) ≤
-///    U(rate·n + 1, n) = ψ⁺(n). Bisection gives n_lo, the smallest n with
-///    ψ(n) ≤ c (nothing below it can certify), and n_hi, the smallest n with
-///    ψ⁺(n) ≤ c (which certifies).
-/// 2. Between n_lo and n_hi, the integers are grouped by their k; within one
-///    group U decreases in n, so the group's last n decides whether the group
+///    n at a fixed rate, ψ(n) = U(rate·n, n) ≤ U(⌈rate·n⌉, n) (less the
+///    slack of errors_at). Bisection gives n_lo, the smallest n with
+///    ψ(n) ≤ c: nothing below it can certify. At the last n of a stretch of
+///    equal k, k < rate·(n + 1), so U there is at most ψ⁺(n) = U(rate·n +
+///    rate, n); bisection gives n_hi, the smallest n with ψ⁺(n) ≤ c: the
+///    stretch that reaches past n_hi certifies at its end.
+/// 2. From n_lo on, the integers are grouped by their k; within one group U
+///    decreases in n, so the group's last n decides whether the group
 ///    contains a certifying n, and bisection inside the first such group gives
-///    the smallest one. The window spans O(√n) values of n, i.e. about
-///    rate·O(√n) groups.
+///    the smallest one. The window holds about rate·(n_hi − n_lo) groups,
+///    O(rate·√n).
 ///
 /// rate = 0 has the closed form n = ⌈ln α / ln(1 − c)⌉ (k = 0 bound
 /// 1 − α^(1/n) ≤ c), checked against [`upper_bound`] at n and n − 1.
@@ -118,12 +128,18 @@ pub fn holdout_needed_binomial(rate: f64, claim_error: f64, alpha: f64) -> Optio
             n,
         )
     };
-    let envelope_high = |n: u64| envelope(rate * n as f64 + 1.0, n);
+    // At the end n_e of a stretch, k < rate·(n_e + 1) (plus the slack): the
+    // bound there is at most U(rate·n_e + rate, n_e), a far tighter ceiling
+    // than rate·n + 1 when the rate is small.
+    let envelope_at_stretch_end = |n: u64| {
+        let product = rate * n as f64;
+        envelope(product + rate + 2.0 * INTEGER_SLACK * product.max(1.0), n)
+    };
     let n_lo = smallest_passing(1, envelope_low)?;
-    let n_hi = smallest_passing(n_lo, envelope_high).unwrap_or(SEARCH_LIMIT);
+    let n_hi = smallest_passing(n_lo, envelope_at_stretch_end).unwrap_or(SEARCH_LIMIT);
     let mut n = n_lo;
     while n <= n_hi {
-        let group_end = last_n_with_same_errors(rate, n, n_hi);
+        let group_end = last_n_with_same_errors(rate, n);
         if certifies(group_end) {
             // U(k, ·) decreases on [n, group_end]: bisect for the first pass.
             let (mut failing, mut passing) = (n, group_end);
