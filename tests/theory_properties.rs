@@ -201,3 +201,27 @@ fn holdout_needed_binomial_is_minimal_at_huge_n() {
         }
     }
 }
+
+/// A claim within 4e-9 of the observed rate (from an invented sweep log): the
+/// exact window would hold millions of stretches and the size is near 10¹⁷,
+/// beyond 2⁵³, so the search returns the smallest n from which every size
+/// certifies. It must come back at once, certify, and lie close above the
+/// minimum: 1e-6 fewer examples do not certify.
+#[test]
+fn holdout_needed_binomial_for_a_hairline_claim_is_sufficient_and_close() {
+    use gapcert::theory::sample_size::{errors_at, holdout_needed_binomial};
+    let (rate, claim, a) = (
+        0.17569999595943775,
+        0.17569999999999997,
+        0.002380952380952383,
+    );
+    let started = std::time::Instant::now();
+    let n = holdout_needed_binomial(rate, claim, a).expect("rate < claim");
+    assert!(started.elapsed() < std::time::Duration::from_secs(1));
+    assert!(n > 1 << 53, "{n}");
+    let certifies = |m: u64| binomial::upper_bound(errors_at(rate, m), m, a) <= claim;
+    for m in [n, n + n / 1_000_000, n * 2] {
+        assert!(certifies(m), "{m}");
+    }
+    assert!(!certifies(n - n / 1_000_000));
+}
