@@ -6,7 +6,7 @@
 #   2. peak resident memory auditing 10,000,000 runs from Parquet (target <= 4 GB);
 #   3. the pandas + scipy reference script vs gapcert on the same file (target >= 10x).
 # Usage: [ROWS=1000000] [BIG_ROWS=10000000] [PY_ROWS=10000] [REPEATS=5] benches/run.sh
-# PY_ROWS is smaller because the Python script needs about 30 ms per run
+# BIG_ROWS=0 or PY_ROWS=0 skips that part. PY_ROWS is smaller because the Python script needs about 30 ms per run
 # (its exact holdout_needed search calls scipy once per candidate n).
 set -euo pipefail
 cd "$(dirname "$0")/.."
@@ -50,6 +50,7 @@ if [ "$BIG_ROWS" -gt 0 ]; then
   printf 'peak RSS: %.2f GB (target <= 4), wall %s\n' "$(div "$rss_kb" 1048576)" "$wall"
 fi
 
+[ "$PY_ROWS" -gt 0 ] || exit 0
 echo "== 3. pandas + scipy reference vs gapcert on $PY_ROWS runs"
 python3 -c 'import pandas, scipy' 2>/dev/null || pip install --quiet pandas scipy pyarrow
 [ -f "$DATA/runs-$PY_ROWS.csv" ] || "$EX/generate_logs" --rows "$PY_ROWS" --seed 7 --output "$DATA/runs-$PY_ROWS.csv"
