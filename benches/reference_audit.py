@@ -268,8 +268,29 @@ def holdout_needed_binomial(rate: float, claim: float, alpha: float):
     while hi - lo > 1:
         mid = (lo + hi) // 2
         lo, hi = (lo, mid) if envelope_passes(mid) else (mid, hi)
+    n_lo = hi
+
+    # gapcert's documented shortcut (README, decisions): when more than 65,536
+    # stretches lie between the envelopes, or sizes pass 2**53, the answer is the
+    # smallest n from which every size passes: upper(rate*n + 1, n) <= claim.
+    def bisect_envelope(extra):
+        lo, hi = n_lo - 1, n_max
+        while hi - lo > 1:
+            mid = (lo + hi) // 2
+            k = rate * mid + extra
+            ok = mid - k >= 1 and float(stats.beta.ppf(1.0 - alpha, k + 1.0, mid - k)) <= claim
+            lo, hi = (lo, mid) if ok else (mid, hi)
+        return hi
+
+    # (scipy's beta.ppf returns NaN once the parameters pass ~1e16, so sizes that
+    # large, e.g. a claim 4e-9 above the rate, are beyond this reference; gapcert
+    # still answers them, see tests/theory_properties.rs.)
+    n_stretch_end = bisect_envelope(rate)
+    if rate * (n_stretch_end - n_lo) > 65536 or n_stretch_end > 2 ** 53:
+        return bisect_envelope(1.0)
+
     k_max = math.ceil(rate * n_max)
-    k0 = max(1, math.ceil(rate * hi * (1.0 - 1e-6)) - 3)
+    k0 = max(1, math.ceil(rate * n_lo * (1.0 - 1e-6)) - 3)
     while k0 <= k_max:
         ks = np.arange(k0, min(k0 + 65536, k_max + 1), dtype=np.int64)
         n_end = np.floor(ks / rate).astype(np.int64)
