@@ -70,9 +70,20 @@ fn limits() -> Vec<StreamLimits> {
 }
 
 fn assert_same_as_in_memory(paths: &[PathBuf], audit: &AuditSettings, ingest: &IngestSettings) {
+    assert_same_with_limits(paths, audit, ingest, &limits());
+}
+
+/// Streamed with each of `limits`, with and without finding messages, the audit
+/// equals the in-memory one.
+fn assert_same_with_limits(
+    paths: &[PathBuf],
+    audit: &AuditSettings,
+    ingest: &IngestSettings,
+    limits: &[StreamLimits],
+) {
     let doc = gapcert::audit_paths(paths, audit, ingest).expect("valid logs");
     assert!(!doc.runs.is_empty());
-    for limit in limits() {
+    for &limit in limits {
         let (runs, summary) = streamed(paths, audit, ingest, limit, true);
         assert_eq!(json(&runs), json(&doc.runs), "{paths:?} with {limit:?}");
         assert_eq!(summary, doc.summary, "{paths:?} with {limit:?}");
@@ -211,14 +222,8 @@ fn invented_sweep(rows: usize, path: &Path) {
 
 #[test]
 fn streamed_sweep_equals_in_memory_audit() {
-    let folder = tempfile::tempdir().expect("temporary folder");
-    let path = folder.path().join("sweep.csv");
-    invented_sweep(3000, &path);
-    let paths = [path];
-    let audit = AuditSettings::default();
-    let ingest = IngestSettings::default();
-    let doc = gapcert::audit_paths(&paths, &audit, &ingest).expect("valid log");
-    for limit in [
+    let (_folder, path) = sweep_log(3000);
+    let limits = [
         StreamLimits {
             batch_rows: 257,
             hold_runs: 0,
@@ -227,29 +232,43 @@ fn streamed_sweep_equals_in_memory_audit() {
             batch_rows: 1000,
             hold_runs: 2000,
         },
-    ] {
-        let (runs, summary) = streamed(&paths, &audit, &ingest, limit, true);
-        assert_eq!(json(&runs), json(&doc.runs), "{limit:?}");
-        assert_eq!(summary, doc.summary);
-        let (codes_only, _) = streamed(&paths, &audit, &ingest, limit, false);
-        assert_eq!(ndjson(&codes_only), ndjson(&doc.runs), "{limit:?}");
-    }
+    ];
+    assert_same_with_limits(
+        &[path],
+        &AuditSettings::default(),
+        &IngestSettings::default(),
+        &limits,
+    );
+}
+
+/// An invented sweep log of `rows` runs in a temporary folder (kept alive by the
+/// returned guard).
+fn sweep_log(rows: usize) -> (tempfile::TempDir, PathBuf) {
+    let folder = tempfile::tempdir().expect("temporary folder");
+    let path = folder.path().join("sweep.csv");
+    invented_sweep(rows, &path);
+    (folder, path)
+}
+
+/// Runs `work` on a rayon pool of `threads` threads.
+fn with_threads<T: Send>(threads: usize, work: impl FnOnce() -> T + Send) -> T {
+    rayon::ThreadPoolBuilder::new()
+        .num_threads(threads)
+        .build()
+        .expect("thread pool")
+        .install(work)
 }
 
 #[test]
 fn parallel_audit_is_bit_identical_to_single_threaded() {
-    let folder = tempfile::tempdir().expect("temporary folder");
-    let path = folder.path().join("sweep.csv");
-    invented_sweep(5000, &path);
+    let (_folder, path) = sweep_log(5000);
     let paths = [path];
     let audit = AuditSettings::default();
     let ingest = IngestSettings::default();
     let audit_with = |threads: usize| {
-        let pool = rayon::ThreadPoolBuilder::new()
-            .num_threads(threads)
-            .build()
-            .expect("thread pool");
-        pool.install(|| gapcert::audit_paths(&paths, &audit, &ingest).expect("valid log"))
+        with_threads(threads, || {
+            gapcert::audit_paths(&paths, &audit, &ingest).expect("valid log")
+        })
     };
     let single = audit_with(1);
     let parallel = audit_with(4);
@@ -257,24 +276,13 @@ fn parallel_audit_is_bit_identical_to_single_threaded() {
     assert_eq!(json(&single.runs), json(&parallel.runs));
     assert_eq!(single.summary, parallel.summary);
     // And the flat writer: lines formatted in parallel, written in order.
-    let write = |threads: usize| {
-        let pool = rayon::ThreadPoolBuilder::new()
-            .num_threads(threads)
-            .build()
-            .expect("thread pool");
-        let mut out = Vec::new();
-        pool.install(|| gapcert::report::flat::write_ndjson(&single.runs, &mut out))
-            .expect("write");
-        out
-    };
+    let write = |threads: usize| with_threads(threads, || ndjson(&single.runs));
     assert_eq!(write(1), write(4));
 }
 
 #[test]
 fn hand_written_json_lines_equal_serde_output() {
-    let folder = tempfile::tempdir().expect("temporary folder");
-    let path = folder.path().join("sweep.csv");
-    invented_sweep(2000, &path);
+    let (_folder, path) = sweep_log(2000);
     let mut paths = vec![path, fixture("demo/runs.csv"), fixture("formats")];
     paths.extend([fixture("edge/mixed_case.csv")]);
     let doc = gapcert::audit_paths(
