@@ -9,6 +9,7 @@
 
 use super::beta::ln_incomplete_beta;
 use super::binomial::{upper_bound, upper_bound_real};
+use super::special::normal_upper_deviate_approx;
 
 /// Relative slack within which `rate·n` counts as the integer it rounds to.
 /// The double nearest a logged rate, times n, is off by at most about one
@@ -77,15 +78,16 @@ const SEARCH_LIMIT: u64 = 1 << 62;
 /// 1. Envelopes. With the continuous extension U(k, n) (real k), monotone in
 ///    n at a fixed rate, ψ(n) = U(rate·n, n) ≤ U(⌈rate·n⌉, n) (less the
 ///    slack of errors_at). Bisection gives n_lo, the smallest n with
-///    ψ(n) ≤ c: nothing below it can certify. At the last n of a stretch of
+///    ψ(n) ≤ c: nothing below it can certify (found from a normal-approximation
+///    guess by regula falsi, see [`smallest_passing`]). At the last n of a stretch of
 ///    equal k, k < rate·(n + 1), so U there is at most ψ⁺(n) = U(rate·n +
-///    rate, n); bisection gives n_hi, the smallest n with ψ⁺(n) ≤ c: the
-///    stretch that reaches past n_hi certifies at its end.
+///    rate, n); so with n_hi, the smallest n with ψ⁺(n) ≤ c, the stretch
+///    that reaches past n_hi certifies at its end.
 /// 2. From n_lo on, the integers are grouped by their k; within one group U
 ///    decreases in n, so the group's last n decides whether the group
 ///    contains a certifying n, and bisection inside the first such group gives
-///    the smallest one. The window holds about rate·(n_hi − n_lo) groups,
-///    O(rate·√n).
+///    the smallest one. The walk ends by the group holding n_hi; about
+///    rate·(n_hi − n_lo) groups, O(rate·√n), lie in between.
 ///
 /// When the window holds more than 65,536 stretches or reaches 2⁵³ (claims
 /// within ~1e-8 of the observed rate: sizes of 10¹³ and more), the result is
@@ -103,7 +105,7 @@ pub fn holdout_needed_binomial(rate: f64, claim_error: f64, alpha: f64) -> Optio
     }
     let certifies = |n: u64| {
         let k = errors_at(rate, n);
-        bound_at_most(k as f64, n as f64, alpha, claim_error, || {
+        bound_probe(k as f64, n as f64, alpha, claim_error, || {
             upper_bound(k, n, alpha)
         })
     };
@@ -114,10 +116,10 @@ pub fn holdout_needed_binomial(rate: f64, claim_error: f64, alpha: f64) -> Optio
         } else {
             1
         };
-        while n > 1 && certifies(n - 1) {
+        while n > 1 && certifies(n - 1).passes {
             n -= 1;
         }
-        while !certifies(n) {
+        while !certifies(n).passes {
             if n >= SEARCH_LIMIT {
                 return None;
             }
@@ -127,7 +129,7 @@ pub fn holdout_needed_binomial(rate: f64, claim_error: f64, alpha: f64) -> Optio
     }
     let envelope = |k: f64, n: u64| {
         let n = n as f64;
-        bound_at_most(k, n, alpha, claim_error, || upper_bound_real(k, n, alpha))
+        bound_probe(k, n, alpha, claim_error, || upper_bound_real(k, n, alpha))
     };
     // errors_at(n) may round a product down by its slack, so the low envelope
     // starts that far below rate·n: it must never exceed the bound at the
@@ -146,44 +148,55 @@ pub fn holdout_needed_binomial(rate: f64, claim_error: f64, alpha: f64) -> Optio
         let product = rate * n as f64;
         envelope(product + rate + 2.0 * INTEGER_SLACK * product.max(1.0), n)
     };
-    let n_lo = smallest_passing(1, envelope_low)?;
-    let n_hi = smallest_passing(n_lo, envelope_at_stretch_end).unwrap_or(SEARCH_LIMIT);
-    // About rate·(n_hi − n_lo) stretches lie between the envelopes. When a claim
-    // sits within ~1e-8 of the observed rate there are millions (minutes of
-    // work), and beyond 2⁵³ a double no longer tells n from n + 1: then the
-    // answer is the smallest n from which every size certifies (each n ≥ it has
-    // U(⌈rate·n⌉, n) ≤ U(rate·n + 1, n) ≤ c): sufficient, and above the minimum
-    // by less than the window, a relative ~1e-7 at such sizes.
-    let stretches = rate * n_hi.saturating_sub(n_lo) as f64;
-    if stretches > WALK_BUDGET || n_hi > EXACT_INTEGERS {
+    let n_lo = smallest_passing(1, normal_guess(rate, claim_error, alpha), envelope_low)?;
+    // The exact walk covers at most 65,536 stretches past n_lo, and sizes a double
+    // tells apart (up to 2⁵³). When a claim sits within ~1e-8 of the observed rate
+    // the window between the envelopes is wider (minutes of work): then the answer
+    // is the smallest n from which every size certifies (each n ≥ it has
+    // U(⌈rate·n⌉, n) ≤ U(rate·n + 1, n) ≤ c): sufficient, and above the minimum by
+    // less than the window, a relative ~1e-7 at such sizes. n_hi lies within the
+    // walk's reach exactly when the stretch-end envelope passes at its far end, so
+    // one test decides without finding n_hi itself.
+    let walk_end = n_lo
+        .saturating_add((WALK_BUDGET / rate).floor() as u64)
+        .min(EXACT_INTEGERS);
+    if n_lo > EXACT_INTEGERS || !envelope_at_stretch_end(walk_end).passes {
         let every_n = |n: u64| {
             let product = rate * n as f64;
             envelope(product + 1.0 + 2.0 * INTEGER_SLACK * product.max(1.0), n)
         };
-        return smallest_passing(n_lo, every_n);
+        let near = n_lo.saturating_add(n_lo / 64 + 1);
+        return smallest_passing(n_lo, near, every_n);
     }
     let mut n = n_lo;
-    while n <= n_hi {
+    while n <= walk_end {
         let group_end = last_n_with_same_errors(rate, n);
-        if certifies(group_end) {
-            // U(k, ·) decreases on [n, group_end]: bisect for the first pass.
-            let (mut failing, mut passing) = (n, group_end);
-            if certifies(n) {
+        let at_end = certifies(group_end);
+        if at_end.passes {
+            // U(k, ·) decreases on [n, group_end]: narrow down to the first pass.
+            let at_start = certifies(n);
+            if at_start.passes {
                 return Some(n);
             }
-            while passing - failing > 1 {
-                let mid = failing + (passing - failing) / 2;
-                if certifies(mid) {
-                    passing = mid;
-                } else {
-                    failing = mid;
-                }
-            }
-            return Some(passing);
+            return Some(narrow(
+                (n, at_start.margin),
+                (group_end, at_end.margin),
+                certifies,
+            ));
         }
         n = group_end + 1;
     }
     None
+}
+
+/// One evaluation of a test "n certifies", monotone in n (false, then true): the
+/// decision, and a margin that falls smoothly through zero near the boundary
+/// (ln tail − ln α; NaN when not available). The decision alone is the truth;
+/// the margin only tells the search where to look next.
+#[derive(Clone, Copy, Debug)]
+struct Probe {
+    passes: bool,
+    margin: f64,
 }
 
 /// Whether the exact upper bound U(k, n, α) is at most `claim` (k real, as in
@@ -194,7 +207,7 @@ pub fn holdout_needed_binomial(rate: f64, claim_error: f64, alpha: f64) -> Optio
 /// the two sides are too close to call in floating point, and `exact` (the
 /// inversion) decides, so the answer always equals `exact() ≤ claim`: the tail and
 /// the inversion are each accurate to far better than 1e-8 relative.
-fn bound_at_most(k: f64, n: f64, alpha: f64, claim: f64, exact: impl FnOnce() -> f64) -> bool {
+fn bound_probe(k: f64, n: f64, alpha: f64, claim: f64, exact: impl FnOnce() -> f64) -> Probe {
     let simple = k > 0.0
         && n - k >= 1.0
         && alpha > f64::MIN_POSITIVE
@@ -202,15 +215,19 @@ fn bound_at_most(k: f64, n: f64, alpha: f64, claim: f64, exact: impl FnOnce() ->
         && claim > 0.0
         && claim < 1.0;
     if !simple {
-        return exact() <= claim;
+        return Probe {
+            passes: exact() <= claim,
+            margin: f64::NAN,
+        };
     }
     let ln_tail = ln_incomplete_beta(k + 1.0, n - k, claim, 1.0 - claim).ln_upper;
     let margin = ln_tail - alpha.ln();
-    if margin.abs() <= 1e-8 || margin.is_nan() {
+    let passes = if margin.abs() <= 1e-8 || margin.is_nan() {
         exact() <= claim
     } else {
         margin < 0.0
-    }
+    };
+    Probe { passes, margin }
 }
 
 /// True when no sample size is defined: rate ≥ claim (nothing to certify),
@@ -219,35 +236,96 @@ fn invalid(rate: f64, claim_error: f64, alpha: f64) -> bool {
     rate.is_nan() || claim_error.is_nan() || alpha.is_nan() || rate >= claim_error || alpha <= 0.0
 }
 
-/// Smallest n ≥ start with `passes(n)`, for a predicate that is monotone
-/// (false then true): exponential bracketing, then bisection.
-fn smallest_passing(start: u64, passes: impl Fn(u64) -> bool) -> Option<u64> {
-    if passes(start) {
-        return Some(start);
-    }
-    let mut failing = start;
-    let mut passing = start.max(1);
-    loop {
-        if passing >= SEARCH_LIMIT {
+/// Smallest n ≥ start that passes a monotone test (false then true); None if
+/// nothing up to 2⁶² passes. `guess` is where the boundary probably lies: the
+/// search brackets the boundary from there (doubling the distance from `start`
+/// while sizes fail, halving it while they pass), then [`narrow`]s the bracket.
+fn smallest_passing(start: u64, guess: u64, test: impl Fn(u64) -> Probe) -> Option<u64> {
+    let start = start.min(SEARCH_LIMIT);
+    let mut n = guess.clamp(start, SEARCH_LIMIT);
+    let mut probe = test(n);
+    let mut failing = None;
+    while !probe.passes {
+        failing = Some((n, probe.margin));
+        if n >= SEARCH_LIMIT {
             return None;
         }
-        let next = passing.saturating_mul(2).min(SEARCH_LIMIT);
-        if passes(next) {
-            passing = next;
-            break;
-        }
-        failing = next;
-        passing = next;
+        n = start
+            .saturating_add((n - start).max(1).saturating_mul(2))
+            .min(SEARCH_LIMIT);
+        probe = test(n);
     }
-    while passing - failing > 1 {
-        let mid = failing + (passing - failing) / 2;
-        if passes(mid) {
-            passing = mid;
+    let mut passing = (n, probe.margin);
+    let failing = match failing {
+        Some(failing) => failing,
+        None => loop {
+            if passing.0 == start {
+                return Some(start);
+            }
+            let lower = start + (passing.0 - start) / 2;
+            let probe = test(lower);
+            if !probe.passes {
+                break (lower, probe.margin);
+            }
+            passing = (lower, probe.margin);
+        },
+    };
+    Some(narrow(failing, passing, test))
+}
+
+/// The smallest passing n in (failing, passing], for a monotone test, given the
+/// (n, margin) of a failing and a passing end. Regula falsi with the Illinois
+/// modification (M. Dowell and P. Jarratt, BIT 11, 1971, 168–174;
+/// reference from memory) on the margins, rounded to
+/// integers, with a bisection step whenever two steps have not halved the bracket.
+/// The tail's logarithm is close to linear in n, so a few steps do what bisection
+/// does in log₂(width).
+fn narrow(mut failing: (u64, f64), mut passing: (u64, f64), test: impl Fn(u64) -> Probe) -> u64 {
+    // Which end the last step moved: -1 the failing end, +1 the passing end.
+    let mut last_moved = 0i8;
+    let mut width_two_steps_ago = u64::MAX;
+    let mut width_one_step_ago = u64::MAX;
+    while passing.0 - failing.0 > 1 {
+        let width = passing.0 - failing.0;
+        let mut next = failing.0 + width / 2;
+        let (m_fail, m_pass) = (failing.1, passing.1);
+        let stalled = width.saturating_mul(2) > width_two_steps_ago;
+        if !stalled && m_fail.is_finite() && m_pass.is_finite() && m_fail > m_pass {
+            let t = m_fail / (m_fail - m_pass);
+            if t > 0.0 && t < 1.0 {
+                next = failing.0 + (t * width as f64).round() as u64;
+            }
+            next = next.clamp(failing.0 + 1, passing.0 - 1);
+        }
+        width_two_steps_ago = width_one_step_ago;
+        width_one_step_ago = width;
+        let probe = test(next);
+        if probe.passes {
+            passing = (next, probe.margin);
+            if last_moved == 1 {
+                failing.1 /= 2.0;
+            }
+            last_moved = 1;
         } else {
-            failing = mid;
+            failing = (next, probe.margin);
+            if last_moved == -1 {
+                passing.1 /= 2.0;
+            }
+            last_moved = -1;
         }
     }
-    Some(passing)
+    passing.0
+}
+
+/// Where the envelope search starts: the normal approximation to the binomial
+/// tail, P[Bin(n, c) ≤ rate·n] ≈ Φ(−(c − rate)·√n / √(c(1 − c))) = α, solved for
+/// n (common practice; only a starting point, the search is exact).
+fn normal_guess(rate: f64, claim: f64, alpha: f64) -> u64 {
+    let z = normal_upper_deviate_approx(alpha.min(0.5));
+    let root_n = z * (claim * (1.0 - claim)).sqrt() / (claim - rate);
+    let n = (root_n * root_n).ceil();
+    // `as` saturates; NaN becomes 0, which the search lifts to its start.
+    n as u64
 }
 
 /// `⌈ln(1/alpha) / (2(claim_error − rate)²)⌉` (at least 1); None if
@@ -260,4 +338,48 @@ pub fn holdout_needed_hoeffding(rate: f64, claim_error: f64, alpha: f64) -> Opti
     let n = ((1.0 / alpha).ln().max(0.0) / (2.0 * gap * gap)).ceil();
     // `as` saturates at u64::MAX for huge or infinite n.
     Some((n as u64).max(1))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use std::cell::Cell;
+
+    /// The margins only steer the search: whatever they say (exact, rough,
+    /// constant, pointing the wrong way, NaN), the answer is the boundary of the
+    /// decisions, found in far fewer tests than a walk would need.
+    #[test]
+    fn the_search_finds_the_boundary_whatever_the_margins_say() {
+        type Margin = fn(u64, u64) -> f64;
+        let margins: [(&str, Margin); 6] = [
+            ("linear", |n, t| t as f64 - n as f64),
+            ("logarithmic", |n, t| (t as f64).ln() - (n as f64).ln()),
+            ("cubic", |n, t| (t as f64 - n as f64).powi(3)),
+            ("constant", |_, _| 1.0),
+            ("reversed", |n, t| n as f64 - t as f64),
+            ("missing", |_, _| f64::NAN),
+        ];
+        for threshold in [1u64, 2, 3, 17, 1000, 123_457, 1 << 40, (1 << 62) - 5] {
+            for (name, margin) in margins {
+                for (start, guess) in [(1, 1), (1, 10), (1, threshold), (1, u64::MAX), (1, 2)] {
+                    let tests = Cell::new(0u32);
+                    let test = |n: u64| {
+                        tests.set(tests.get() + 1);
+                        Probe {
+                            passes: n >= threshold,
+                            margin: margin(n, threshold),
+                        }
+                    };
+                    let found = smallest_passing(start, guess, test);
+                    assert_eq!(found, Some(threshold), "{name}, guess {guess}");
+                    assert!(tests.get() <= 200, "{name}: {} tests", tests.get());
+                }
+            }
+        }
+        let never = |_: u64| Probe {
+            passes: false,
+            margin: 1.0,
+        };
+        assert_eq!(smallest_passing(1, 100, never), None);
+    }
 }
