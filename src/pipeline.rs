@@ -103,7 +103,7 @@ pub fn prepare<'a>(
     let (logs, passes): (Vec<OpenedLog<'a>>, Vec<FirstPass>) = sources
         .par_iter()
         .map(|source| {
-            let log = OpenedLog::open(source);
+            let log = OpenedLog::open(source, &settings.column_map);
             let mut scope = AuditScope::default();
             let mut runs = 0;
             let mut held: Option<Vec<Vec<RunInput>>> = Some(Vec::new());

@@ -7,7 +7,8 @@ pub mod result;
 pub mod run;
 pub mod settings;
 
-use std::collections::{HashMap, HashSet};
+// foldhash: these maps are looked up once or more per run.
+use foldhash::{HashMap, HashSet};
 use std::sync::Mutex;
 
 use rayon::prelude::*;
@@ -137,8 +138,8 @@ impl<'a> Auditor<'a> {
             settings,
             scope,
             delta: scope.delta(settings),
-            train_needed: Mutex::new(HashMap::new()),
-            holdout_needed: Mutex::new(HashMap::new()),
+            train_needed: Mutex::new(HashMap::default()),
+            holdout_needed: Mutex::new(HashMap::default()),
             messages: true,
         }
     }
@@ -159,7 +160,7 @@ impl<'a> Auditor<'a> {
         let started = std::time::Instant::now();
         let train_needed = {
             let mut known = lock(&self.train_needed);
-            let mut missing: HashMap<FamilyId, Family> = HashMap::new();
+            let mut missing: HashMap<FamilyId, Family> = HashMap::default();
             for family in inputs.iter().filter_map(|r| r.family) {
                 let id = FamilyId::of(&family);
                 if !known.contains_key(&id) {

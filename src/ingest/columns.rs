@@ -99,8 +99,13 @@ pub fn parse_map_file(label: &str, text: &str) -> Result<Vec<(String, String)>, 
 /// Binds canonical fields to the file's columns, case-insensitively, after renames.
 /// A renamed canonical field looks only for its mapped name.
 pub fn bind_columns(df: &DataFrame, column_map: &[(String, String)]) -> ColumnBinding {
-    let names: Vec<String> = df
-        .get_column_names()
+    let names: Vec<&str> = df.get_column_names().iter().map(|n| n.as_str()).collect();
+    bind_names(&names, column_map)
+}
+
+/// [`bind_columns`] for a header given as names.
+pub fn bind_names(header: &[&str], column_map: &[(String, String)]) -> ColumnBinding {
+    let names: Vec<String> = header
         .iter()
         .map(|name| name.trim().to_ascii_lowercase())
         .collect();
@@ -117,6 +122,48 @@ pub fn bind_columns(df: &DataFrame, column_map: &[(String, String)]) -> ColumnBi
         }
     }
     binding
+}
+
+/// How gapcert reads a canonical column's cells.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum CellKind {
+    Float,
+    Integer,
+    Text,
+}
+
+pub fn cell_kind(canonical: &str) -> CellKind {
+    match canonical {
+        "run" | "family" | "holdout_set" | "logged_at" => CellKind::Text,
+        "train_error_rate" | "train_accuracy" | "holdout_error_rate" | "holdout_accuracy"
+        | "claimed_accuracy" | "claimed_error_rate" => CellKind::Float,
+        _ => CellKind::Integer,
+    }
+}
+
+/// The type to parse each column of a delimited file's header as: Float64 or Int64
+/// for a column bound to a numeric field, text for every other column (and for a
+/// column bound to fields of different kinds).
+pub fn delimited_dtypes(header: &[&str], column_map: &[(String, String)]) -> Vec<DataType> {
+    let binding = bind_names(header, column_map);
+    let mut kinds: Vec<Option<CellKind>> = vec![None; header.len()];
+    let mut mixed = vec![false; header.len()];
+    for (&canonical, &index) in &binding.index {
+        let kind = cell_kind(canonical);
+        match kinds[index] {
+            Some(seen) if seen != kind => mixed[index] = true,
+            _ => kinds[index] = Some(kind),
+        }
+    }
+    kinds
+        .iter()
+        .zip(&mixed)
+        .map(|(kind, &mixed)| match kind {
+            Some(CellKind::Float) if !mixed => DataType::Float64,
+            Some(CellKind::Integer) if !mixed => DataType::Int64,
+            _ => DataType::String,
+        })
+        .collect()
 }
 
 /// The display name of a bound column (as written in the file).

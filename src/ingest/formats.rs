@@ -25,14 +25,19 @@ pub fn read_table(
     label: &str,
     bytes: &[u8],
     format: LogFormat,
+    column_map: &[(String, String)],
 ) -> Result<(DataFrame, Vec<Problem>), Vec<Problem>> {
     if bytes.is_empty() {
         return Err(vec![Problem::file(label, "the file is empty")]);
     }
     super::preflight::check(label, bytes, format)?;
     match format {
-        LogFormat::Csv => read_delimited(label, bytes, b',').map(|df| (df, Vec::new())),
-        LogFormat::Tsv => read_delimited(label, bytes, b'\t').map(|df| (df, Vec::new())),
+        LogFormat::Csv => {
+            read_delimited(label, bytes, b',', Some(column_map)).map(|df| (df, Vec::new()))
+        }
+        LogFormat::Tsv => {
+            read_delimited(label, bytes, b'\t', Some(column_map)).map(|df| (df, Vec::new()))
+        }
         LogFormat::Parquet => guarded(label, "Parquet", || {
             ParquetReader::new(Cursor::new(bytes)).finish()
         })
@@ -209,10 +214,21 @@ pub fn polars_message(error: &PolarsError) -> String {
         .to_string()
 }
 
-/// Reads CSV or TSV. Every column is read as text and typed later by the column
-/// extractor, which reports each unparsable cell with its row and column; polars' own
-/// typed parse would stop at the first bad cell without saying which row it was.
-fn read_delimited(label: &str, bytes: &[u8], separator: u8) -> Result<DataFrame, Vec<Problem>> {
+/// Reads CSV or TSV.
+///
+/// With `column_map` given, the columns gapcert reads as numbers are first parsed by
+/// polars as Float64 or Int64 (the fast path: no text copies, no second parse). If a
+/// single cell does not parse, polars stops without saying which row it was, so the
+/// file is then read again with every column as text, and the column extractor
+/// reports each unparsable cell with its row and column. Where both parsers accept a
+/// cell they agree: each reads a decimal to the nearest double (a test compares the
+/// two paths cell by cell).
+fn read_delimited(
+    label: &str,
+    bytes: &[u8],
+    separator: u8,
+    column_map: Option<&[(String, String)]>,
+) -> Result<DataFrame, Vec<Problem>> {
     let bytes = strip_bom(bytes);
     if bytes.iter().all(|b| b.is_ascii_whitespace()) {
         return Err(vec![Problem::file(label, "the file is empty")]);
@@ -224,12 +240,65 @@ fn read_delimited(label: &str, bytes: &[u8], separator: u8) -> Result<DataFrame,
         .with_has_header(true)
         .with_infer_schema_length(Some(0))
         .with_parse_options(parse_options);
+    if let Some(df) = column_map.and_then(|map| read_delimited_typed(label, bytes, &options, map)) {
+        return Ok(strip_carriage_returns(df));
+    }
     let df = guarded(label, "delimited text", || {
         options
             .into_reader_with_file_handle(Cursor::new(bytes))
             .finish()
     })?;
     Ok(strip_carriage_returns(df))
+}
+
+/// The fast path of [`read_delimited`]; None when it does not apply or any cell fails.
+fn read_delimited_typed(
+    label: &str,
+    bytes: &[u8],
+    options: &CsvReadOptions,
+    column_map: &[(String, String)],
+) -> Option<DataFrame> {
+    // polars scans the whole input even for zero rows: hand it the header line only.
+    let header_line = &bytes[..header_end(bytes)];
+    let header = guarded(label, "delimited text", || {
+        options
+            .clone()
+            .with_n_rows(Some(0))
+            .into_reader_with_file_handle(Cursor::new(header_line))
+            .finish()
+    })
+    .ok()?;
+    let names: Vec<&str> = header
+        .get_column_names()
+        .iter()
+        .map(|name| name.as_str())
+        .collect();
+    let dtypes = super::columns::delimited_dtypes(&names, column_map);
+    if dtypes.iter().all(|dtype| *dtype == DataType::String) {
+        return None;
+    }
+    guarded(label, "delimited text", || {
+        options
+            .clone()
+            .with_dtype_overwrite(Some(Arc::new(dtypes)))
+            .into_reader_with_file_handle(Cursor::new(bytes))
+            .finish()
+    })
+    .ok()
+}
+
+/// The end of a delimited file's first record (its newline included): the first
+/// newline outside double quotes, or the end of the input.
+fn header_end(bytes: &[u8]) -> usize {
+    let mut quoted = false;
+    for (at, &byte) in bytes.iter().enumerate() {
+        match byte {
+            b'"' => quoted = !quoted,
+            b'\n' if !quoted => return at + 1,
+            _ => {}
+        }
+    }
+    bytes.len()
 }
 
 /// CRLF files leave a trailing `\r` in the last column's cells (and its name) on some
@@ -439,5 +508,88 @@ fn json_kind(value: &Value) -> &'static str {
         Value::Null => "null",
         Value::Number(_) => "number",
         Value::String(_) => "string",
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::ingest::rows::table_runs;
+    use crate::ingest::settings::IngestSettings;
+
+    /// Reads `text` as CSV both ways (numeric columns parsed by polars, and every
+    /// column as text) and returns the validated runs and problems of each.
+    fn both_paths(text: &str) -> [(DataFrame, String); 2] {
+        let settings = IngestSettings::default();
+        let read = |map: Option<&[(String, String)]>| {
+            let df = read_delimited("t.csv", text.as_bytes(), b',', map).expect("readable");
+            let runs = table_runs("t.csv", &df, 0, &settings, Vec::new());
+            let seen = format!(
+                "{:?}\n{:?}\n{:?}",
+                runs.runs, runs.bad_rows, runs.file_problems
+            );
+            (df, seen)
+        };
+        [read(Some(&settings.column_map)), read(None)]
+    }
+
+    #[test]
+    fn typed_and_text_reading_give_the_same_runs() {
+        // Spellings both parsers accept (signs, bare points, exponents, quotes,
+        // empty cells) in the numeric columns.
+        let text = "run,holdout_n,holdout_error_rate,holdout_misclassified,train_n,train_error_rate,claimed_accuracy,holdout_set,family,dim\n\
+                    a,100,0.03,3,1000,+0.01,.97,\"s1\",linear,3\n\
+                    b,\"250\",3e-2,,2000,1E-2,0.9,s1,,\n\
+                    c,+40,.025,1,,,,007,box,2\n\
+                    d,1000,0.1000000000000000055511151231257827,100,5,0,,,,\n";
+        let [(typed, typed_seen), (plain, plain_seen)] = both_paths(text);
+        assert_eq!(typed.column("holdout_n").unwrap().dtype(), &DataType::Int64);
+        assert_eq!(
+            typed.column("claimed_accuracy").unwrap().dtype(),
+            &DataType::Float64
+        );
+        // A split named 007 stays text, not the number 7.
+        assert_eq!(
+            typed.column("holdout_set").unwrap().dtype(),
+            &DataType::String
+        );
+        assert_eq!(
+            plain.column("holdout_n").unwrap().dtype(),
+            &DataType::String
+        );
+        assert!(typed_seen.contains("\"007\""), "{typed_seen}");
+        assert_eq!(typed_seen, plain_seen);
+    }
+
+    #[test]
+    fn a_cell_polars_cannot_parse_falls_back_to_text_and_is_reported_by_row() {
+        // `1000.0` is a whole number to gapcert but not an Int64 to polars; `n/a` is
+        // not a number at all: the second read reports it with its row.
+        let text = "run,holdout_n,holdout_error_rate\na,1000.0,0.1\nb,n/a,0.2\nc, 300 ,0.3\n";
+        let [(typed, typed_seen), (_, plain_seen)] = both_paths(text);
+        assert_eq!(
+            typed.column("holdout_n").unwrap().dtype(),
+            &DataType::String
+        );
+        assert_eq!(typed_seen, plain_seen);
+        assert!(typed_seen.contains("row: Some(2)"), "{typed_seen}");
+        assert!(typed_seen.contains("n/a"), "{typed_seen}");
+    }
+
+    #[test]
+    fn crlf_files_read_the_same_typed() {
+        let lf = "run,holdout_n,holdout_error_rate\na,100,0.03\nb,200,0.05\n";
+        let crlf = lf.replace('\n', "\r\n");
+        let [(_, from_lf), _] = both_paths(lf);
+        let [(_, from_crlf), (_, from_crlf_text)] = both_paths(&crlf);
+        assert_eq!(from_lf, from_crlf);
+        assert_eq!(from_crlf, from_crlf_text);
+    }
+
+    #[test]
+    fn the_header_ends_at_the_first_newline_outside_quotes() {
+        assert_eq!(header_end(b"a,b\n1,2\n"), 4);
+        assert_eq!(header_end(b"\"a\nx\",b\n1,2\n"), 8);
+        assert_eq!(header_end(b"a,b"), 3);
     }
 }

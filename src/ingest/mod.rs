@@ -148,7 +148,7 @@ pub fn read_sources_reporting(
     let per_file: Vec<(OpenedLog, Vec<RunInput>, FileReport)> = sources
         .par_iter()
         .map(|source| {
-            let log = OpenedLog::open(source);
+            let log = OpenedLog::open(source, &settings.column_map);
             let mut runs = Vec::new();
             let report = log.validate(settings, usize::MAX, &mut |batch| {
                 runs.extend(batch);
@@ -264,7 +264,8 @@ pub struct OpenedLog<'a> {
 
 impl<'a> OpenedLog<'a> {
     /// Reads and hashes the file, and parses it (Parquet: only its footer).
-    pub fn open(source: &LogSource<'a>) -> OpenedLog<'a> {
+    /// `column_map` (the `--map` renames) tells which columns hold numbers.
+    pub fn open(source: &LogSource<'a>, column_map: &[(String, String)]) -> OpenedLog<'a> {
         let label = source_label(source);
         let bytes: Cow<'a, [u8]> = match source {
             LogSource::Path(path, _) => match std::fs::read(path) {
@@ -297,7 +298,7 @@ impl<'a> OpenedLog<'a> {
             rayon::join(
                 || hex(&Sha256::digest(&bytes)),
                 || {
-                    formats::read_table(&label, &bytes, format)
+                    formats::read_table(&label, &bytes, format, column_map)
                         .map(|(df, problems)| formats::LogTable::Frame(df, problems))
                 },
             )

@@ -2,13 +2,13 @@
 //! count columns, range and consistency checks, family resolution.
 
 use chrono::{DateTime, NaiveDate, NaiveDateTime, Utc};
-use std::collections::HashMap;
 
 use polars::prelude::{DataFrame, Series};
 use rayon::prelude::*;
 
 use super::columns::{
-    bind_columns, column_name, extract_f64, extract_i64, text_cells, text_series,
+    bind_columns, cell_kind, column_name, extract_f64, extract_i64, text_cells, text_series,
+    CellKind,
 };
 use super::problem::Problem;
 use super::settings::IngestSettings;
@@ -150,15 +150,14 @@ pub fn table_runs(
             file_problems,
         };
     }
-    let names: HashMap<&'static str, String> = super::columns::CANONICAL_COLUMNS
+    let names: Vec<String> = super::columns::CANONICAL_COLUMNS
         .iter()
         .map(|&canonical| {
-            let name = binding
+            binding
                 .index
                 .get(canonical)
                 .map(|&index| column_name(df, index))
-                .unwrap_or_else(|| canonical.to_string());
-            (canonical, name)
+                .unwrap_or_else(|| canonical.to_string())
         })
         .collect();
     let table = Extracted {
@@ -242,22 +241,6 @@ fn slot(canonical: &str) -> usize {
     }
 }
 
-#[derive(Clone, Copy)]
-enum CellKind {
-    Float,
-    Integer,
-    Text,
-}
-
-fn cell_kind(canonical: &str) -> CellKind {
-    match canonical {
-        "run" | "family" | "holdout_set" | "logged_at" => CellKind::Text,
-        "train_error_rate" | "train_accuracy" | "holdout_error_rate" | "holdout_accuracy"
-        | "claimed_accuracy" | "claimed_error_rate" => CellKind::Float,
-        _ => CellKind::Integer,
-    }
-}
-
 enum ColumnCells<'a> {
     Absent,
     Float(Vec<Option<f64>>),
@@ -273,8 +256,9 @@ struct Extracted<'a> {
     settings: &'a IngestSettings,
     /// In the order of `CANONICAL_COLUMNS`.
     columns: Vec<ColumnCells<'a>>,
-    /// The column name as written in the file, per canonical field (for messages).
-    names: HashMap<&'static str, String>,
+    /// The column name as written in the file, per canonical field in the order of
+    /// `CANONICAL_COLUMNS` (for messages).
+    names: Vec<String>,
 }
 
 impl Extracted<'_> {
@@ -300,7 +284,10 @@ impl Extracted<'_> {
     }
 
     fn name(&self, canonical: &str) -> &str {
-        self.names.get(canonical).map(String::as_str).unwrap_or("")
+        self.names
+            .get(slot(canonical))
+            .map(String::as_str)
+            .unwrap_or("")
     }
 
     /// Validates row `i` (0-based) into a run, or returns every problem of the row.
@@ -468,6 +455,8 @@ impl Extracted<'_> {
 
         let logged = match self.text("logged_at", i) {
             Some(text) => match parse_timestamp(text) {
+                // Formatting would give the same text back: skip it (most logs).
+                Some(_) if is_plain_utc_second(text) => Some(text.to_string()),
                 Some(time) => Some(time.to_rfc3339_opts(chrono::SecondsFormat::AutoSi, true)),
                 None => {
                     let name = self.name("logged_at");
@@ -487,7 +476,10 @@ impl Extracted<'_> {
             // A missing required value always leaves a problem above.
             return Err(found);
         };
-        let source = format!("{label}:{row}");
+        let mut source = String::with_capacity(label.len() + 21);
+        source.push_str(label);
+        source.push(':');
+        source.push_str(itoa::Buffer::new().format(row));
         Ok(RunInput {
             run: self
                 .text("run", i)
@@ -634,6 +626,23 @@ fn error_of_row(
     }
 }
 
+/// Whether `text` is a UTC time in whole seconds exactly as RFC 3339 output writes it
+/// (`2024-09-02T08:14:05Z`, a year from 1000, seconds below 60), so that parsing and
+/// formatting it again would give the same text.
+fn is_plain_utc_second(text: &str) -> bool {
+    let b = text.as_bytes();
+    b.len() == 20
+        && b.iter().enumerate().all(|(at, &c)| match at {
+            4 | 7 => c == b'-',
+            10 => c == b'T',
+            13 | 16 => c == b':',
+            19 => c == b'Z',
+            _ => c.is_ascii_digit(),
+        })
+        && b[0] != b'0'
+        && b[17] < b'6'
+}
+
 /// RFC 3339, or `YYYY-MM-DD[ HH:MM[:SS[.fff]]]` (also with `T`), taken as UTC when
 /// no offset is written.
 pub fn parse_timestamp(text: &str) -> Option<DateTime<Utc>> {
@@ -666,6 +675,37 @@ mod tests {
         for (index, name) in super::super::columns::CANONICAL_COLUMNS.iter().enumerate() {
             assert_eq!(slot(name), index, "{name}");
         }
+    }
+
+    /// The shortcut that keeps a plain UTC timestamp as written must give what
+    /// chrono's RFC 3339 formatting gives (common practice: RFC 3339 §5.6 form).
+    #[test]
+    fn plain_utc_seconds_read_back_as_written() {
+        for text in [
+            "2024-09-02T08:14:05Z",
+            "1999-12-31T23:59:59Z",
+            "2024-02-29T00:00:00Z",
+            "9999-01-01T12:30:45Z",
+            "1000-06-15T01:02:03Z",
+        ] {
+            assert!(is_plain_utc_second(text), "{text}");
+            let formatted = parse_timestamp(text)
+                .unwrap()
+                .to_rfc3339_opts(chrono::SecondsFormat::AutoSi, true);
+            assert_eq!(formatted, text);
+        }
+        for text in [
+            "2024-09-02T08:14:05+00:00",
+            "2024-09-02T08:14:05.5Z",
+            "2024-09-02 08:14:05Z",
+            "0999-09-02T08:14:05Z",
+            "2016-12-31T23:59:60Z",
+            "2024-09-02t08:14:05z",
+        ] {
+            assert!(!is_plain_utc_second(text), "{text}");
+        }
+        // Shaped right but not a date: still refused by the parser first.
+        assert!(parse_timestamp("2024-02-30T00:00:00Z").is_none());
     }
 
     #[test]
