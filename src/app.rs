@@ -291,17 +291,22 @@ fn run_streaming_audit(
         if format == OutputFormat::Csv {
             report::flat::write_csv_header(out)?;
         }
+        // Lines are formatted on a stage of their own, so this thread only copies
+        // bytes out while the next batches are audited and formatted.
+        let format_batch = |runs: Vec<crate::audit::RunResult>| match format {
+            OutputFormat::Csv => report::flat::format_csv_rows(&runs),
+            _ => report::flat::format_ndjson(&runs),
+        };
         // A reader that stops early (`| head`) ends the output, not the audit: the
         // gate still needs every run.
         let mut closed = false;
-        let mut sink = |runs: &[crate::audit::RunResult]| -> io::Result<()> {
+        let mut sink = |buffers: Vec<io::Result<Vec<u8>>>| -> io::Result<()> {
             if closed {
                 return Ok(());
             }
-            let written = match format {
-                OutputFormat::Csv => report::flat::write_csv_rows(runs, out),
-                _ => report::flat::write_ndjson(runs, out),
-            };
+            let written = buffers
+                .into_iter()
+                .try_for_each(|buffer| out.write_all(&buffer?));
             match written {
                 Err(error) if error.kind() == io::ErrorKind::BrokenPipe => {
                     closed = true;
@@ -310,7 +315,7 @@ fn run_streaming_audit(
                 other => other,
             }
         };
-        summary = Some(prepared.audit(audit_settings, false, &mut sink)?);
+        summary = Some(prepared.audit_through(audit_settings, false, &format_batch, &mut sink)?);
         Ok(())
     };
     let written = match &options.output {

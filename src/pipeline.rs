@@ -177,19 +177,36 @@ impl PreparedAudit<'_> {
     /// `messages` false the findings carry codes only (all the flat formats print).
     ///
     /// Three stages overlap: one thread reads and validates the next batch, another
-    /// audits the current one, and this thread writes the previous one (the writer
-    /// stays on the caller's thread, so `sink` need not be `Send`).
+    /// audits the current one, and this thread hands the previous one to `sink` (the
+    /// writer stays on the caller's thread, so `sink` need not be `Send`).
     pub fn audit(
         self,
         audit_settings: &AuditSettings,
         messages: bool,
         sink: &mut dyn FnMut(&[RunResult]) -> io::Result<()>,
     ) -> io::Result<Summary> {
+        self.audit_through(
+            audit_settings,
+            messages,
+            &|results| results,
+            &mut |results| sink(&results),
+        )
+    }
+
+    /// [`Self::audit`] with a fourth stage: each batch of results is turned into `T`
+    /// (say, formatted bytes) on a thread of its own, so that `sink` (say, the kernel
+    /// copying those bytes to a file) overlaps with formatting and auditing.
+    pub fn audit_through<T: Send>(
+        self,
+        audit_settings: &AuditSettings,
+        messages: bool,
+        transform: &(dyn Fn(Vec<RunResult>) -> T + Sync),
+        sink: &mut dyn FnMut(T) -> io::Result<()>,
+    ) -> io::Result<Summary> {
         let mut auditor = Auditor::new(&self.scope, audit_settings);
         if !messages {
             auditor = auditor.codes_only();
         }
-        let mut summary = Summary::default();
         let PreparedAudit {
             logs,
             usable,
@@ -204,7 +221,8 @@ impl PreparedAudit<'_> {
         // One batch in flight per stage bounds the memory to a few batches.
         let (inputs_out, inputs_in) = mpsc::sync_channel::<Vec<RunInput>>(1);
         let (results_out, results_in) = mpsc::sync_channel::<Vec<RunResult>>(1);
-        let written = std::thread::scope(|scope| -> io::Result<()> {
+        let (done_out, done_in) = mpsc::sync_channel::<T>(1);
+        let (written, counted) = std::thread::scope(|scope| {
             scope.spawn(move || match held {
                 Some(batches) => {
                     for batch in batches {
@@ -238,16 +256,28 @@ impl PreparedAudit<'_> {
                     }
                 }
             });
-            for results in results_in {
-                for result in &results {
-                    summary.count(result);
+            let counter = scope.spawn(move || {
+                let mut summary = Summary::default();
+                for results in results_in {
+                    for result in &results {
+                        summary.count(result);
+                    }
+                    if done_out.send(transform(results)).is_err() {
+                        break;
+                    }
                 }
-                // On an error the channels close and the other stages stop.
-                sink(&results)?;
-            }
-            Ok(())
+                summary
+            });
+            // On an error the channels close and the other stages stop.
+            let written = done_in.into_iter().try_for_each(&mut *sink);
+            // The counting stage only panics if `transform` does: pass that on.
+            let counted = counter
+                .join()
+                .unwrap_or_else(|panic| std::panic::resume_unwind(panic));
+            (written, counted)
         });
         written?;
+        let mut summary = counted;
         summary.rows_skipped = skipped_rows.len() + rows_in_skipped_files;
         summary.rows_read = summary.runs + summary.rows_skipped;
         summary.files_skipped = skipped_files.len();

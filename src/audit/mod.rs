@@ -8,7 +8,7 @@ pub mod run;
 pub mod settings;
 
 // foldhash: these maps are looked up once or more per run.
-use foldhash::{HashMap, HashSet};
+use foldhash::HashMap;
 use std::sync::Mutex;
 
 use rayon::prelude::*;
@@ -176,7 +176,33 @@ impl<'a> Auditor<'a> {
         };
         crate::timing("  train_needed per family", started);
 
-        let mut results: Vec<RunResult> = inputs
+        // holdout_needed is a search over n (a dozen tail evaluations); sweeps may
+        // repeat the same (rate, claim, δ/K), so each distinct one is solved once and
+        // remembered. Looked up inside the parallel map: no serial pass over the batch.
+        let holdout_needed = |r: &RunResult| -> Option<u64> {
+            let claim = match (r.verdict, r.claim_error_rate) {
+                (Verdict::Unproven, Some(claim)) if r.holdout_error_rate < claim => claim,
+                _ => return None,
+            };
+            let key: ClaimKey = (
+                r.holdout_error_rate.to_bits(),
+                claim.to_bits(),
+                r.delta.to_bits(),
+            );
+            if let Some(&known) = lock(&self.holdout_needed).get(&key) {
+                return known;
+            }
+            let needed = holdout_needed_for(
+                Verdict::Unproven,
+                r.holdout_error_rate,
+                Some(claim),
+                r.delta,
+                settings.holdout_bound,
+            );
+            lock(&self.holdout_needed).insert(key, needed);
+            needed
+        };
+        inputs
             .into_par_iter()
             .map(|input| {
                 let context = RunContext {
@@ -188,50 +214,11 @@ impl<'a> Auditor<'a> {
                     defer_holdout_needed: true,
                     messages: self.messages,
                 };
-                audit_run(input, context, settings)
+                let mut result = audit_run(input, context, settings);
+                result.holdout_needed = holdout_needed(&result);
+                result
             })
-            .collect();
-
-        // holdout_needed is a search over n (dozens of inversions); sweeps repeat the
-        // same (rate, claim, δ/K), so solve each distinct one once, in parallel.
-        let started = std::time::Instant::now();
-        let key = |r: &RunResult| -> Option<ClaimKey> {
-            match (r.verdict, r.claim_error_rate) {
-                (Verdict::Unproven, Some(claim)) if r.holdout_error_rate < claim => Some((
-                    r.holdout_error_rate.to_bits(),
-                    claim.to_bits(),
-                    r.delta.to_bits(),
-                )),
-                _ => None,
-            }
-        };
-        let mut known = lock(&self.holdout_needed);
-        let missing: HashSet<ClaimKey> = results
-            .iter()
-            .filter_map(key)
-            .filter(|k| !known.contains_key(k))
-            .collect();
-        let solved: Vec<(ClaimKey, Option<u64>)> = missing
-            .into_par_iter()
-            .map(|k @ (rate, claim, alpha)| {
-                let needed = holdout_needed_for(
-                    Verdict::Unproven,
-                    f64::from_bits(rate),
-                    Some(f64::from_bits(claim)),
-                    f64::from_bits(alpha),
-                    settings.holdout_bound,
-                );
-                (k, needed)
-            })
-            .collect();
-        known.extend(solved);
-        for result in &mut results {
-            if let Some(k) = key(result) {
-                result.holdout_needed = known.get(&k).copied().flatten();
-            }
-        }
-        crate::timing("  holdout_needed per distinct claim", started);
-        results
+            .collect()
     }
 }
 

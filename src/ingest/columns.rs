@@ -265,6 +265,10 @@ pub fn extract_i64(
             Ok(cast) => {
                 let cells: Vec<Option<i64>> = cast.i64().expect("cast to i64").iter().collect();
                 // A u64 above i64::MAX casts to null; report it rather than lose it.
+                // (Every other integer type fits: no new nulls to look for.)
+                if *series.dtype() != DataType::UInt64 {
+                    return cells;
+                }
                 let original_nulls = series.is_null();
                 for (row, cell) in cells.iter().enumerate() {
                     if cell.is_none() && !original_nulls.get(row).unwrap_or(true) {

@@ -121,27 +121,32 @@ const TASKS_PER_BATCH: usize = 16;
 /// input order, so the output is identical to a sequential writer's.
 pub fn write_ndjson(runs: &[RunResult], out: &mut dyn Write) -> io::Result<()> {
     for batch in runs.chunks(RUNS_PER_TASK * TASKS_PER_BATCH) {
-        let buffers: Vec<io::Result<Vec<u8>>> = batch
-            .par_chunks(RUNS_PER_TASK)
-            .map(|task| {
-                let mut buffer = Vec::with_capacity(task.len() * 960);
-                for run in task {
-                    push_json_line(&mut buffer, run)?;
-                }
-                Ok(buffer)
-            })
-            .collect();
-        for buffer in buffers {
+        for buffer in format_ndjson(batch) {
             out.write_all(&buffer?)?;
         }
     }
     Ok(())
 }
 
+/// The JSON lines of `runs`, formatted in parallel: buffers to write in order.
+pub fn format_ndjson(runs: &[RunResult]) -> Vec<io::Result<Vec<u8>>> {
+    runs.par_chunks(RUNS_PER_TASK)
+        .map(|task| {
+            let mut buffer = Vec::with_capacity(task.len() * 960);
+            for run in task {
+                push_json_line(&mut buffer, run)?;
+            }
+            Ok(buffer)
+        })
+        .collect()
+}
+
 /// One run as a JSON line: the object `serde_json` would write for [`FlatRun`] (the
 /// same fields, order and number formatting; tests compare the two), with the keys
 /// written as constant bytes instead of being escaped anew for every run.
 fn push_json_line(line: &mut Vec<u8>, r: &RunResult) -> io::Result<()> {
+    // Inlined so that each key's length is a constant and its copy needs no call.
+    #[inline(always)]
     fn field<T: Serialize + ?Sized>(line: &mut Vec<u8>, key: &[u8], value: &T) -> io::Result<()> {
         line.extend_from_slice(key);
         serde_json::to_writer(&mut *line, value).map_err(io::Error::from)
@@ -223,6 +228,18 @@ pub fn write_csv(runs: &[RunResult], out: &mut dyn Write) -> io::Result<()> {
 /// The CSV header line.
 pub fn write_csv_header(out: &mut dyn Write) -> io::Result<()> {
     writeln!(out, "{}", FLAT_COLUMNS.join(","))
+}
+
+/// The CSV lines of `runs` (no header), formatted in parallel: buffers to write in
+/// order.
+pub fn format_csv_rows(runs: &[RunResult]) -> Vec<io::Result<Vec<u8>>> {
+    runs.par_chunks(RUNS_PER_TASK)
+        .map(|task| {
+            let mut buffer = Vec::with_capacity(task.len() * 640);
+            write_csv_rows(task, &mut buffer)?;
+            Ok(buffer)
+        })
+        .collect()
 }
 
 /// CSV lines for `runs`, without the header (for writing batch by batch).
