@@ -295,6 +295,9 @@ fn hand_written_json_lines_equal_serde_output() {
     // Hostile and unusual text: quotes, backslashes, control characters, non-ASCII.
     runs[0].run = "a \"quoted\" \\ run\n\t\u{7}é😀".to_string();
     runs[0].holdout_set = Some("</script>\u{0}".to_string());
+    runs[1].run = "\u{8}\u{c}\r\u{1f}\u{7f}/\"\"\\".to_string();
+    runs[1].family = Some("\u{1}x\u{1b}[31m".to_string());
+    runs[2].source = "dir/ä.csv:3".to_string();
     runs[0].logged_at = None;
     runs[1].growth_ln = Some(f64::NAN);
     runs[1].vc_bound = Some(f64::INFINITY);

@@ -134,7 +134,7 @@ pub fn format_ndjson(runs: &[RunResult]) -> Vec<io::Result<Vec<u8>>> {
         .map(|task| {
             let mut buffer = Vec::with_capacity(task.len() * 960);
             for run in task {
-                push_json_line(&mut buffer, run)?;
+                push_json_line(&mut buffer, run);
             }
             Ok(buffer)
         })
@@ -142,55 +142,64 @@ pub fn format_ndjson(runs: &[RunResult]) -> Vec<io::Result<Vec<u8>>> {
 }
 
 /// One run as a JSON line: the object `serde_json` would write for [`FlatRun`] (the
-/// same fields, order and number formatting; tests compare the two), with the keys
-/// written as constant bytes instead of being escaped anew for every run.
-fn push_json_line(line: &mut Vec<u8>, r: &RunResult) -> io::Result<()> {
-    // Inlined so that each key's length is a constant and its copy needs no call.
-    #[inline(always)]
-    fn field<T: Serialize + ?Sized>(line: &mut Vec<u8>, key: &[u8], value: &T) -> io::Result<()> {
-        line.extend_from_slice(key);
-        serde_json::to_writer(&mut *line, value).map_err(io::Error::from)
-    }
-    field(line, b"{\"run\":", r.run.as_str())?;
-    field(line, b",\"source\":", r.source.as_str())?;
-    field(line, b",\"family\":", &r.family)?;
-    field(line, b",\"train_n\":", &r.train_n)?;
-    field(line, b",\"train_error_rate\":", &r.train_error_rate)?;
-    field(line, b",\"holdout_n\":", &r.holdout_n)?;
-    field(line, b",\"holdout_error_rate\":", &r.holdout_error_rate)?;
-    field(
-        line,
-        b",\"holdout_misclassified\":",
-        &r.holdout_misclassified,
-    )?;
-    field(line, b",\"holdout_set\":", &r.holdout_set)?;
-    field(line, b",\"candidates\":", &r.candidates)?;
-    field(line, b",\"delta\":", &r.delta)?;
-    field(
-        line,
-        b",\"hoeffding_interval_lo\":",
-        &r.hoeffding_interval[0],
-    )?;
-    field(
-        line,
-        b",\"hoeffding_interval_hi\":",
-        &r.hoeffding_interval[1],
-    )?;
-    field(line, b",\"binomial_interval_lo\":", &r.binomial_interval[0])?;
-    field(line, b",\"binomial_interval_hi\":", &r.binomial_interval[1])?;
-    field(line, b",\"error_upper_bound\":", &r.error_upper_bound)?;
-    field(line, b",\"error_lower_bound\":", &r.error_lower_bound)?;
-    field(line, b",\"vc_dim\":", &r.vc_dim)?;
-    field(line, b",\"growth_ln\":", &r.growth_ln)?;
-    field(line, b",\"vc_allowance\":", &r.vc_allowance)?;
-    field(line, b",\"vc_bound\":", &r.vc_bound)?;
-    field(line, b",\"observed_gap\":", &r.observed_gap)?;
-    field(line, b",\"certified_gap_max\":", &r.certified_gap_max)?;
-    field(line, b",\"claim_error_rate\":", &r.claim_error_rate)?;
+/// same fields, order and bytes; tests compare the two), written directly: keys as
+/// constant bytes, numbers through the same formatters serde_json uses (zmij for
+/// floats, itoa for integers), text with serde_json's escapes.
+fn push_json_line(line: &mut Vec<u8>, r: &RunResult) {
+    line.extend_from_slice(b"{\"run\":");
+    push_text(line, &r.run);
+    line.extend_from_slice(b",\"source\":");
+    push_text(line, &r.source);
+    line.extend_from_slice(b",\"family\":");
+    push_opt_text(line, r.family.as_deref());
+    line.extend_from_slice(b",\"train_n\":");
+    push_opt_u64(line, r.train_n);
+    line.extend_from_slice(b",\"train_error_rate\":");
+    push_opt_f64(line, r.train_error_rate);
+    line.extend_from_slice(b",\"holdout_n\":");
+    push_u64(line, r.holdout_n);
+    line.extend_from_slice(b",\"holdout_error_rate\":");
+    push_f64(line, r.holdout_error_rate);
+    line.extend_from_slice(b",\"holdout_misclassified\":");
+    push_u64(line, r.holdout_misclassified);
+    line.extend_from_slice(b",\"holdout_set\":");
+    push_opt_text(line, r.holdout_set.as_deref());
+    line.extend_from_slice(b",\"candidates\":");
+    push_u64(line, r.candidates);
+    line.extend_from_slice(b",\"delta\":");
+    push_f64(line, r.delta);
+    line.extend_from_slice(b",\"hoeffding_interval_lo\":");
+    push_f64(line, r.hoeffding_interval[0]);
+    line.extend_from_slice(b",\"hoeffding_interval_hi\":");
+    push_f64(line, r.hoeffding_interval[1]);
+    line.extend_from_slice(b",\"binomial_interval_lo\":");
+    push_f64(line, r.binomial_interval[0]);
+    line.extend_from_slice(b",\"binomial_interval_hi\":");
+    push_f64(line, r.binomial_interval[1]);
+    line.extend_from_slice(b",\"error_upper_bound\":");
+    push_f64(line, r.error_upper_bound);
+    line.extend_from_slice(b",\"error_lower_bound\":");
+    push_f64(line, r.error_lower_bound);
+    line.extend_from_slice(b",\"vc_dim\":");
+    push_opt_u64(line, r.vc_dim);
+    line.extend_from_slice(b",\"growth_ln\":");
+    push_opt_f64(line, r.growth_ln);
+    line.extend_from_slice(b",\"vc_allowance\":");
+    push_opt_f64(line, r.vc_allowance);
+    line.extend_from_slice(b",\"vc_bound\":");
+    push_opt_f64(line, r.vc_bound);
+    line.extend_from_slice(b",\"observed_gap\":");
+    push_opt_f64(line, r.observed_gap);
+    line.extend_from_slice(b",\"certified_gap_max\":");
+    push_opt_f64(line, r.certified_gap_max);
+    line.extend_from_slice(b",\"claim_error_rate\":");
+    push_opt_f64(line, r.claim_error_rate);
     line.extend_from_slice(b",\"verdict\":\"");
     line.extend_from_slice(r.verdict.as_str().as_bytes());
-    field(line, b"\",\"holdout_needed\":", &r.holdout_needed)?;
-    field(line, b",\"train_needed\":", &r.train_needed)?;
+    line.extend_from_slice(b"\",\"holdout_needed\":");
+    push_opt_u64(line, r.holdout_needed);
+    line.extend_from_slice(b",\"train_needed\":");
+    push_opt_u64(line, r.train_needed);
     // Codes are plain identifiers: nothing to escape.
     line.extend_from_slice(b",\"findings\":[");
     for (index, finding) in r.findings.iter().enumerate() {
@@ -201,10 +210,83 @@ fn push_json_line(line: &mut Vec<u8>, r: &RunResult) -> io::Result<()> {
         line.extend_from_slice(finding.code.as_str().as_bytes());
         line.push(b'"');
     }
-    line.push(b']');
-    field(line, b",\"logged_at\":", &r.logged_at)?;
+    line.extend_from_slice(b"],\"logged_at\":");
+    push_opt_text(line, r.logged_at.as_deref());
     line.extend_from_slice(b"}\n");
-    Ok(())
+}
+
+/// A float as serde_json writes it: shortest round-trip digits (zmij), null when
+/// not finite.
+#[inline]
+fn push_f64(line: &mut Vec<u8>, value: f64) {
+    if value.is_finite() {
+        line.extend_from_slice(zmij::Buffer::new().format_finite(value).as_bytes());
+    } else {
+        line.extend_from_slice(b"null");
+    }
+}
+
+#[inline]
+fn push_opt_f64(line: &mut Vec<u8>, value: Option<f64>) {
+    match value {
+        Some(value) => push_f64(line, value),
+        None => line.extend_from_slice(b"null"),
+    }
+}
+
+#[inline]
+fn push_u64(line: &mut Vec<u8>, value: u64) {
+    line.extend_from_slice(itoa::Buffer::new().format(value).as_bytes());
+}
+
+#[inline]
+fn push_opt_u64(line: &mut Vec<u8>, value: Option<u64>) {
+    match value {
+        Some(value) => push_u64(line, value),
+        None => line.extend_from_slice(b"null"),
+    }
+}
+
+#[inline]
+fn push_opt_text(line: &mut Vec<u8>, value: Option<&str>) {
+    match value {
+        Some(text) => push_text(line, text),
+        None => line.extend_from_slice(b"null"),
+    }
+}
+
+/// A JSON string with serde_json's escapes: `\"`, `\\`, `\b`, `\t`, `\n`, `\f`,
+/// `\r`, and `\u00xx` (lower-case hex) for the other control characters below
+/// U+0020; everything else, non-ASCII included, as is.
+fn push_text(line: &mut Vec<u8>, text: &str) {
+    line.push(b'"');
+    let bytes = text.as_bytes();
+    let mut plain_from = 0;
+    for (at, &byte) in bytes.iter().enumerate() {
+        let escape: &[u8] = match byte {
+            b'"' => b"\\\"",
+            b'\\' => b"\\\\",
+            b'\n' => b"\\n",
+            b'\t' => b"\\t",
+            b'\r' => b"\\r",
+            0x08 => b"\\b",
+            0x0c => b"\\f",
+            0x00..=0x1f => b"",
+            _ => continue,
+        };
+        line.extend_from_slice(&bytes[plain_from..at]);
+        plain_from = at + 1;
+        if escape.is_empty() {
+            const HEX: &[u8; 16] = b"0123456789abcdef";
+            line.extend_from_slice(b"\\u00");
+            line.push(HEX[(byte >> 4) as usize]);
+            line.push(HEX[(byte & 0xf) as usize]);
+        } else {
+            line.extend_from_slice(escape);
+        }
+    }
+    line.extend_from_slice(&bytes[plain_from..]);
+    line.push(b'"');
 }
 
 /// `runs` as JSON lines through serde (the reference for [`write_ndjson`]'s
