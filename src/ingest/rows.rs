@@ -454,9 +454,10 @@ impl Extracted<'_> {
         };
 
         let logged = match self.text("logged_at", i) {
+            // Most logs write this form: it is checked and kept as written, which is
+            // what parsing and formatting it again would give.
+            Some(text) if is_valid_plain_utc_second(text) => Some(text.to_string()),
             Some(text) => match parse_timestamp(text) {
-                // Formatting would give the same text back: skip it (most logs).
-                Some(_) if is_plain_utc_second(text) => Some(text.to_string()),
                 Some(time) => Some(time.to_rfc3339_opts(chrono::SecondsFormat::AutoSi, true)),
                 None => {
                     let name = self.name("logged_at");
@@ -643,6 +644,30 @@ fn is_plain_utc_second(text: &str) -> bool {
         && b[17] < b'6'
 }
 
+/// [`is_plain_utc_second`] and a real instant: month 1–12, a day the month has
+/// (Gregorian leap years), hour below 24, minute below 60.
+fn is_valid_plain_utc_second(text: &str) -> bool {
+    if !is_plain_utc_second(text) {
+        return false;
+    }
+    let b = text.as_bytes();
+    let number = |from: usize, to: usize| {
+        b[from..to]
+            .iter()
+            .fold(0u32, |value, digit| value * 10 + u32::from(digit - b'0'))
+    };
+    let (year, month, day) = (number(0, 4), number(5, 7), number(8, 10));
+    let leap = year % 4 == 0 && (year % 100 != 0 || year % 400 == 0);
+    let days = match month {
+        1 | 3 | 5 | 7 | 8 | 10 | 12 => 31,
+        4 | 6 | 9 | 11 => 30,
+        2 if leap => 29,
+        2 => 28,
+        _ => return false,
+    };
+    (1..=days).contains(&day) && number(11, 13) < 24 && number(14, 16) < 60
+}
+
 /// RFC 3339, or `YYYY-MM-DD[ HH:MM[:SS[.fff]]]` (also with `T`), taken as UTC when
 /// no offset is written.
 pub fn parse_timestamp(text: &str) -> Option<DateTime<Utc>> {
@@ -704,8 +729,43 @@ mod tests {
         ] {
             assert!(!is_plain_utc_second(text), "{text}");
         }
-        // Shaped right but not a date: still refused by the parser first.
+        // Shaped right but not a date: refused like chrono refuses it.
+        assert!(!is_valid_plain_utc_second("2024-02-30T00:00:00Z"));
         assert!(parse_timestamp("2024-02-30T00:00:00Z").is_none());
+    }
+
+    /// The hand-written check of the plain form accepts exactly what chrono's RFC 3339
+    /// parser accepts (chrono is the reference), over every month and day edge, leap
+    /// and century years, and hour and minute limits.
+    #[test]
+    fn plain_utc_check_agrees_with_chrono() {
+        let mut checked = 0;
+        for year in [
+            1000, 1600, 1700, 1900, 1999, 2000, 2023, 2024, 2100, 2400, 9999,
+        ] {
+            for month in 0..=13 {
+                for day in [0, 1, 28, 29, 30, 31, 32] {
+                    for (hour, minute, second) in [(0, 0, 0), (23, 59, 59), (24, 0, 0), (12, 60, 0)]
+                    {
+                        let text = format!(
+                            "{year:04}-{month:02}-{day:02}T{hour:02}:{minute:02}:{second:02}Z"
+                        );
+                        assert_eq!(
+                            is_valid_plain_utc_second(&text),
+                            parse_timestamp(&text).is_some(),
+                            "{text}"
+                        );
+                        if let Some(time) = parse_timestamp(&text) {
+                            let formatted =
+                                time.to_rfc3339_opts(chrono::SecondsFormat::AutoSi, true);
+                            assert_eq!(formatted, text);
+                        }
+                        checked += 1;
+                    }
+                }
+            }
+        }
+        assert_eq!(checked, 11 * 14 * 7 * 4);
     }
 
     #[test]

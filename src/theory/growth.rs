@@ -85,8 +85,17 @@ pub struct FamilyError {
 /// Err when a required parameter is missing or not positive (or units ≤ 2
 /// for the network families).
 pub fn resolve(key: &str, params: &FamilyParams) -> Result<Option<Family>, FamilyError> {
-    let key = key.trim().to_ascii_lowercase();
-    let family = match key.as_str() {
+    // Family names are short: lower-case them on the stack (this runs once per run).
+    let key = key.trim();
+    let mut lower = [0u8; 16];
+    if key.len() > lower.len() {
+        return Ok(None);
+    }
+    for (to, from) in lower.iter_mut().zip(key.bytes()) {
+        *to = from.to_ascii_lowercase();
+    }
+    let key = std::str::from_utf8(&lower[..key.len()]).unwrap_or("");
+    let family = match key {
         "ray" => Family::Ray,
         "interval" => Family::Interval,
         "linear" => Family::Linear {
