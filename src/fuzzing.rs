@@ -16,6 +16,16 @@ pub fn exercise(data: &[u8], format: LogFormat) {
         let _ = std::panic::take_hook();
         crate::install_panic_hook();
     });
+    // Differential check: numeric columns typed by polars must read like text typed
+    // by gapcert, wherever polars accepts every cell.
+    if let Some(separator) = match format {
+        LogFormat::Csv => Some(b','),
+        LogFormat::Tsv => Some(b'\t'),
+        _ => None,
+    } {
+        let [typed, text] = crate::ingest::formats::typed_and_text_readings(data, separator);
+        assert!(typed == text, "typed and text readings differ");
+    }
     let audit_settings = AuditSettings::default();
     for lenient in [false, true] {
         let ingest_settings = IngestSettings {

@@ -287,6 +287,25 @@ fn read_delimited_typed(
     .ok()
 }
 
+/// What reading delimited `bytes` yields (the validated runs, the bad rows, the
+/// problems), once with numeric columns typed by polars and once with every cell as
+/// text; the two must be equal. For the unit tests and the CSV fuzzer's differential
+/// check.
+pub fn typed_and_text_readings(bytes: &[u8], separator: u8) -> [String; 2] {
+    let settings = super::settings::IngestSettings::default();
+    let read = |map: Option<&[(String, String)]>| match read_delimited("t", bytes, separator, map) {
+        Ok(df) => {
+            let runs = super::rows::table_runs("t", &df, 0, &settings, Vec::new());
+            format!(
+                "{:?}\n{:?}\n{:?}",
+                runs.runs, runs.bad_rows, runs.file_problems
+            )
+        }
+        Err(problems) => format!("{problems:?}"),
+    };
+    [read(Some(&settings.column_map)), read(None)]
+}
+
 /// The end of a delimited file's first record (its newline included): the first
 /// newline outside double quotes, or the end of the input.
 fn header_end(bytes: &[u8]) -> usize {
@@ -514,23 +533,18 @@ fn json_kind(value: &Value) -> &'static str {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::ingest::rows::table_runs;
     use crate::ingest::settings::IngestSettings;
 
-    /// Reads `text` as CSV both ways (numeric columns parsed by polars, and every
-    /// column as text) and returns the validated runs and problems of each.
+    /// Reads `text` as CSV both ways: the typed table, and what each reading yields.
     fn both_paths(text: &str) -> [(DataFrame, String); 2] {
         let settings = IngestSettings::default();
-        let read = |map: Option<&[(String, String)]>| {
-            let df = read_delimited("t.csv", text.as_bytes(), b',', map).expect("readable");
-            let runs = table_runs("t.csv", &df, 0, &settings, Vec::new());
-            let seen = format!(
-                "{:?}\n{:?}\n{:?}",
-                runs.runs, runs.bad_rows, runs.file_problems
-            );
-            (df, seen)
-        };
-        [read(Some(&settings.column_map)), read(None)]
+        let typed = read_delimited("t", text.as_bytes(), b',', Some(&settings.column_map));
+        let plain = read_delimited("t", text.as_bytes(), b',', None);
+        let [typed_seen, plain_seen] = typed_and_text_readings(text.as_bytes(), b',');
+        [
+            (typed.expect("readable"), typed_seen),
+            (plain.expect("readable"), plain_seen),
+        ]
     }
 
     #[test]
