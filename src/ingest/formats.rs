@@ -243,12 +243,7 @@ fn read_delimited(
     if let Some(df) = column_map.and_then(|map| read_delimited_typed(label, bytes, &options, map)) {
         return Ok(strip_carriage_returns(df));
     }
-    let df = guarded(label, "delimited text", || {
-        options
-            .into_reader_with_file_handle(Cursor::new(bytes))
-            .finish()
-    })?;
-    Ok(strip_carriage_returns(df))
+    read_with(label, options, bytes).map(strip_carriage_returns)
 }
 
 /// The fast path of [`read_delimited`]; None when it does not apply or any cell fails.
@@ -260,14 +255,7 @@ fn read_delimited_typed(
 ) -> Option<DataFrame> {
     // polars scans the whole input even for zero rows: hand it the header line only.
     let header_line = &bytes[..header_end(bytes)];
-    let header = guarded(label, "delimited text", || {
-        options
-            .clone()
-            .with_n_rows(Some(0))
-            .into_reader_with_file_handle(Cursor::new(header_line))
-            .finish()
-    })
-    .ok()?;
+    let header = read_with(label, options.clone().with_n_rows(Some(0)), header_line).ok()?;
     let names: Vec<&str> = header
         .get_column_names()
         .iter()
@@ -277,14 +265,8 @@ fn read_delimited_typed(
     if dtypes.iter().all(|dtype| *dtype == DataType::String) {
         return None;
     }
-    guarded(label, "delimited text", || {
-        options
-            .clone()
-            .with_dtype_overwrite(Some(Arc::new(dtypes)))
-            .into_reader_with_file_handle(Cursor::new(bytes))
-            .finish()
-    })
-    .ok()
+    let options = options.clone().with_dtype_overwrite(Some(Arc::new(dtypes)));
+    read_with(label, options, bytes).ok()
 }
 
 /// What reading delimited `bytes` yields (the validated runs, the bad rows, the
@@ -304,6 +286,19 @@ pub fn typed_and_text_readings(bytes: &[u8], separator: u8) -> [String; 2] {
         Err(problems) => format!("{problems:?}"),
     };
     [read(Some(&settings.column_map)), read(None)]
+}
+
+/// Delimited text read by polars with `options`, a panic or error reported as a problem.
+fn read_with(
+    label: &str,
+    options: CsvReadOptions,
+    bytes: &[u8],
+) -> Result<DataFrame, Vec<Problem>> {
+    guarded(label, "delimited text", || {
+        options
+            .into_reader_with_file_handle(Cursor::new(bytes))
+            .finish()
+    })
 }
 
 /// The end of a delimited file's first record (its newline included): the first
