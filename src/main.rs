@@ -27,3 +27,6 @@ fn main() -> ExitCode {
         }
     }
 }
+
+#[global_allocator]
+static ALLOCATOR: mimalloc::MiMalloc = mimalloc::MiMalloc;

@@ -248,7 +248,8 @@ enum ColumnCells<'a> {
     Text(Vec<Option<&'a str>>),
 }
 
-/// The typed columns of one table, and what is needed to assemble its rows.
+/// The typed columns of one table, and what is needed to assemble its rows. The
+/// accessors are always inlined so that [`slot`] of a literal name folds to a constant.
 struct Extracted<'a> {
     label: &'a str,
     /// Rows of the file before this batch.
@@ -262,6 +263,7 @@ struct Extracted<'a> {
 }
 
 impl Extracted<'_> {
+    #[inline(always)]
     fn float(&self, canonical: &str, i: usize) -> Option<f64> {
         match self.columns.get(slot(canonical)) {
             Some(ColumnCells::Float(cells)) => cells[i],
@@ -269,6 +271,7 @@ impl Extracted<'_> {
         }
     }
 
+    #[inline(always)]
     fn integer(&self, canonical: &str, i: usize) -> Option<i64> {
         match self.columns.get(slot(canonical)) {
             Some(ColumnCells::Integer(cells)) => cells[i],
@@ -276,6 +279,7 @@ impl Extracted<'_> {
         }
     }
 
+    #[inline(always)]
     fn text(&self, canonical: &str, i: usize) -> Option<&str> {
         match self.columns.get(slot(canonical)) {
             Some(ColumnCells::Text(cells)) => cells[i],
@@ -283,6 +287,7 @@ impl Extracted<'_> {
         }
     }
 
+    #[inline(always)]
     fn name(&self, canonical: &str) -> &str {
         self.names
             .get(slot(canonical))

@@ -3,9 +3,10 @@
 //! file or the complete new one, never a partial one.
 
 use std::fs::{self, File};
-use std::io::{self, BufWriter, Write};
+use std::io::{self, Write};
 use std::path::{Path, PathBuf};
-use std::sync::{Mutex, Once};
+use std::sync::{Arc, Mutex, Once};
+use std::thread::JoinHandle;
 
 /// Temporary files being written right now, removed if SIGTERM, SIGINT or SIGHUP
 /// arrives, so an interrupted run leaves neither a partial output nor a stray
@@ -43,67 +44,256 @@ fn track(path: &Path, live: bool) {
     }
 }
 
-/// A file that asks the kernel to start writing its pages to disk every 32 MB, without
-/// waiting, so that the final `sync_all` waits for the last stretch only, not for a
-/// large output all at once (about 0.4 s for 0.9 GB of JSON lines here). Linux's
-/// `sync_file_range(2)` with `SYNC_FILE_RANGE_WRITE`; elsewhere a plain file.
-struct EarlyWriteback {
-    file: File,
+/// The temporary file, written through a buffer of [`OutputFile::CHUNK`] bytes.
+///
+/// Outputs larger than the buffer (a million runs of JSON lines is about 0.9 GB) are
+/// written with Linux's `O_DIRECT`, straight from the buffer to the disk: the kernel
+/// then neither copies the bytes into its page cache nor tracks and later frees those
+/// pages, which here cost about a CPU-second per 0.9 GB while the disk takes 0.7 s of
+/// wall time for the same bytes. Each full buffer is written on a thread of its own
+/// while the next one fills, so waiting for the disk overlaps with the audit. The
+/// buffers are aligned to [`OutputFile::BLOCK`] and every direct write is a whole
+/// buffer, as `O_DIRECT` requires; the last, partial buffer is written normally.
+/// Where `O_DIRECT` is refused (some file systems, other systems) or a direct write
+/// fails with `EINVAL`, the rest of the file is written normally, asking the kernel
+/// every 32 MB to start writing back (`sync_file_range`) so the final `sync_all` does
+/// not wait for the whole file at once.
+struct OutputFile {
+    file: Arc<File>,
+    buffer: AlignedBuffer,
+    filled: usize,
+    /// The buffer given back by the last write, for the next one to fill.
+    spare: Option<AlignedBuffer>,
+    in_flight: Option<JoinHandle<(AlignedBuffer, Direct, io::Result<usize>)>>,
+    direct: Direct,
+    /// Bytes written normally so far, and how many of them were submitted for
+    /// writeback.
     written: u64,
     submitted: u64,
 }
 
-impl EarlyWriteback {
-    const STRETCH: u64 = 32 << 20;
+#[derive(Clone, Copy, PartialEq, Eq, Debug)]
+enum Direct {
+    /// The output has not outgrown the buffer yet.
+    Untried,
+    On,
+    Off,
+}
+
+/// `CHUNK` bytes aligned to `BLOCK`, carved out of a slightly larger vector.
+struct AlignedBuffer {
+    storage: Vec<u8>,
+    start: usize,
+}
+
+impl AlignedBuffer {
+    fn new() -> Self {
+        let storage = vec![0u8; OutputFile::CHUNK + OutputFile::BLOCK];
+        let start = storage.as_ptr().align_offset(OutputFile::BLOCK);
+        AlignedBuffer { storage, start }
+    }
+
+    fn bytes(&self, length: usize) -> &[u8] {
+        &self.storage[self.start..self.start + length]
+    }
+
+    fn bytes_mut(&mut self, from: usize, length: usize) -> &mut [u8] {
+        &mut self.storage[self.start + from..self.start + from + length]
+    }
+}
+
+impl OutputFile {
+    /// Alignment of direct writes: the page size, a multiple of any logical block size
+    /// in use.
+    const BLOCK: usize = 4096;
+    const CHUNK: usize = 8 << 20;
+    const WRITEBACK_STRETCH: u64 = 32 << 20;
 
     fn new(file: File) -> Self {
-        EarlyWriteback {
-            file,
+        OutputFile {
+            file: Arc::new(file),
+            buffer: AlignedBuffer::new(),
+            filled: 0,
+            spare: None,
+            in_flight: None,
+            direct: Direct::Untried,
             written: 0,
             submitted: 0,
         }
     }
 
-    #[cfg(target_os = "linux")]
-    fn submit(&mut self) {
-        use std::os::fd::AsRawFd;
-        let (Ok(offset), Ok(length)) = (
-            i64::try_from(self.submitted),
-            i64::try_from(self.written - self.submitted),
-        ) else {
-            return;
+    /// Hands the full buffer to a writing thread (the first time, switching to direct
+    /// writes) and goes on with the spare one.
+    fn drain(&mut self) -> io::Result<()> {
+        self.settle()?;
+        if self.direct == Direct::Untried {
+            self.direct = if set_direct(&self.file, true) {
+                Direct::On
+            } else {
+                Direct::Off
+            };
+        }
+        let spare = self.spare.take().unwrap_or_else(AlignedBuffer::new);
+        let full = std::mem::replace(&mut self.buffer, spare);
+        let length = std::mem::take(&mut self.filled);
+        let file = Arc::clone(&self.file);
+        let mut direct = self.direct;
+        self.in_flight = Some(std::thread::spawn(move || {
+            let result = write_fully(&file, &mut direct, full.bytes(length));
+            (full, direct, result)
+        }));
+        Ok(())
+    }
+
+    /// Waits for the buffer in flight, if any, and takes it back.
+    fn settle(&mut self) -> io::Result<()> {
+        let Some(handle) = self.in_flight.take() else {
+            return Ok(());
         };
-        // SAFETY: the descriptor is open for the life of `self.file`, and the call only
-        // reads its arguments. A failure only means the final sync does all the work.
-        unsafe {
-            libc::sync_file_range(
-                self.file.as_raw_fd(),
-                offset,
-                length,
-                libc::SYNC_FILE_RANGE_WRITE,
-            );
+        let (buffer, direct, result) = handle
+            .join()
+            .unwrap_or_else(|panic| std::panic::resume_unwind(panic));
+        self.spare = Some(buffer);
+        self.direct = direct;
+        let normally = result?;
+        self.written += normally as u64;
+        if self.written - self.submitted >= Self::WRITEBACK_STRETCH {
+            start_writeback(&self.file, self.submitted, self.written - self.submitted);
+            self.submitted = self.written;
         }
-        self.submitted = self.written;
+        Ok(())
     }
 
-    #[cfg(not(target_os = "linux"))]
-    fn submit(&mut self) {}
+    /// Writes what is left in the buffer and syncs the file to disk.
+    fn finish(&mut self) -> io::Result<()> {
+        self.settle()?;
+        // The tail is not a whole number of blocks.
+        if self.direct == Direct::On && !set_direct(&self.file, false) {
+            return Err(io::Error::other("cannot leave direct mode"));
+        }
+        self.direct = Direct::Off;
+        let tail = self.buffer.bytes(std::mem::take(&mut self.filled));
+        write_fully(&self.file, &mut self.direct, tail)?;
+        self.file.sync_all()
+    }
 }
 
-impl Write for EarlyWriteback {
+impl Write for OutputFile {
     fn write(&mut self, bytes: &[u8]) -> io::Result<usize> {
-        let written = self.file.write(bytes)?;
-        self.written += written as u64;
-        if self.written - self.submitted >= Self::STRETCH {
-            self.submit();
+        let taken = bytes.len().min(Self::CHUNK - self.filled);
+        self.buffer
+            .bytes_mut(self.filled, taken)
+            .copy_from_slice(&bytes[..taken]);
+        self.filled += taken;
+        if self.filled == Self::CHUNK {
+            self.drain()?;
         }
-        Ok(written)
+        Ok(taken)
     }
 
+    /// The buffer is kept until it is full or the file is finished (a direct write
+    /// must be a whole buffer).
     fn flush(&mut self) -> io::Result<()> {
-        self.file.flush()
+        Ok(())
     }
 }
+
+impl Drop for OutputFile {
+    /// An abandoned file (the output failed) still waits for its writing thread, so
+    /// nothing writes to the temporary file once it is removed.
+    fn drop(&mut self) {
+        if let Some(handle) = self.in_flight.take() {
+            let _ = handle.join();
+        }
+    }
+}
+
+/// Writes all of `data`; returns how many bytes went through the page cache. A direct
+/// write refused with `EINVAL` (alignment the file system does not accept, or a short
+/// direct write that left the offset unaligned) turns direct mode off for good.
+fn write_fully(mut file: &File, direct: &mut Direct, mut data: &[u8]) -> io::Result<usize> {
+    let mut normally = 0;
+    while !data.is_empty() {
+        match file.write(data) {
+            Ok(0) => return Err(io::ErrorKind::WriteZero.into()),
+            Ok(written) => {
+                if *direct != Direct::On {
+                    normally += written;
+                }
+                data = &data[written..];
+            }
+            Err(error) if error.kind() == io::ErrorKind::Interrupted => {}
+            Err(error) if *direct == Direct::On && is_invalid_argument(&error) => {
+                if !set_direct(file, false) {
+                    return Err(error);
+                }
+                *direct = Direct::Off;
+            }
+            Err(error) => return Err(error),
+        }
+    }
+    Ok(normally)
+}
+
+#[cfg(target_os = "linux")]
+fn is_invalid_argument(error: &io::Error) -> bool {
+    error.raw_os_error() == Some(libc::EINVAL)
+}
+
+#[cfg(not(target_os = "linux"))]
+fn is_invalid_argument(_: &io::Error) -> bool {
+    false
+}
+
+/// Turns `O_DIRECT` on or off for `file`; false when the system refuses.
+#[cfg(target_os = "linux")]
+fn set_direct(file: &File, on: bool) -> bool {
+    use std::os::fd::AsRawFd;
+    let descriptor = file.as_raw_fd();
+    // SAFETY: the descriptor is open for the life of `file`; F_GETFL and F_SETFL only
+    // read and set its status flags.
+    unsafe {
+        let flags = libc::fcntl(descriptor, libc::F_GETFL);
+        if flags < 0 {
+            return false;
+        }
+        let wanted = if on {
+            flags | libc::O_DIRECT
+        } else {
+            flags & !libc::O_DIRECT
+        };
+        libc::fcntl(descriptor, libc::F_SETFL, wanted) == 0
+    }
+}
+
+#[cfg(not(target_os = "linux"))]
+fn set_direct(_: &File, on: bool) -> bool {
+    !on
+}
+
+/// Asks the kernel to start writing `length` bytes from `offset` to disk, without
+/// waiting (`sync_file_range(2)`, `SYNC_FILE_RANGE_WRITE`). A failure only means the
+/// final sync does all the work.
+#[cfg(target_os = "linux")]
+fn start_writeback(file: &File, offset: u64, length: u64) {
+    use std::os::fd::AsRawFd;
+    let (Ok(offset), Ok(length)) = (i64::try_from(offset), i64::try_from(length)) else {
+        return;
+    };
+    // SAFETY: the descriptor is open for the life of `file`, and the call only reads
+    // its arguments.
+    unsafe {
+        libc::sync_file_range(
+            file.as_raw_fd(),
+            offset,
+            length,
+            libc::SYNC_FILE_RANGE_WRITE,
+        );
+    }
+}
+
+#[cfg(not(target_os = "linux"))]
+fn start_writeback(_: &File, _: u64, _: u64) {}
 
 /// Writes `path` atomically with the bytes `write` produces. On any error the
 /// temporary file is removed and the destination is untouched.
@@ -135,11 +325,10 @@ where
     install_cleanup_handler();
     track(&temporary, true);
     let result = (|| {
-        let file = EarlyWriteback::new(File::create(&temporary)?);
-        let mut writer = BufWriter::with_capacity(1 << 20, file);
-        write(&mut writer)?;
-        let file = writer.into_inner().map_err(|e| e.into_error())?.file;
-        file.sync_all()?;
+        let mut file = OutputFile::new(File::create(&temporary)?);
+        write(&mut file)?;
+        file.finish()?;
+        drop(file);
         fs::rename(&temporary, path)
     })();
     if result.is_err() {
@@ -173,5 +362,36 @@ mod tests {
         assert!(read
             .chunks(piece.len())
             .all(|chunk| chunk == piece.as_slice()));
+    }
+
+    /// Outputs smaller than the buffer, exactly one buffer, and one byte more.
+    #[test]
+    fn outputs_around_the_buffer_size_are_written_whole() {
+        let folder = tempfile::tempdir().expect("temporary folder");
+        for size in [0, 1, 4095, 4097, OutputFile::CHUNK, OutputFile::CHUNK + 1] {
+            let path = folder.path().join(format!("out-{size}.bin"));
+            let bytes: Vec<u8> = (0..size).map(|i| (i % 253) as u8).collect();
+            write_atomically(&path, |out| out.write_all(&bytes)).expect("written");
+            assert_eq!(fs::read(&path).expect("read back"), bytes, "size {size}");
+        }
+    }
+
+    /// A direct write the system refuses (here: a length that is not a whole number of
+    /// blocks) falls back to a normal write of the same bytes.
+    #[test]
+    fn a_refused_direct_write_falls_back_to_a_normal_one() {
+        let folder = tempfile::tempdir().expect("temporary folder");
+        let path = folder.path().join("fallback.bin");
+        let file = File::create(&path).expect("created");
+        let mut direct = if set_direct(&file, true) {
+            Direct::On
+        } else {
+            Direct::Off
+        };
+        let bytes: Vec<u8> = (0..10_001u32).map(|i| (i % 7) as u8).collect();
+        write_fully(&file, &mut direct, &bytes).expect("written");
+        assert_eq!(direct, Direct::Off);
+        drop(file);
+        assert_eq!(fs::read(&path).expect("read back"), bytes);
     }
 }
