@@ -261,6 +261,15 @@ fn push_opt_text(line: &mut Vec<u8>, value: Option<&str>) {
 fn push_text(line: &mut Vec<u8>, text: &str) {
     line.push(b'"');
     let bytes = text.as_bytes();
+    // Most names need no escape: one branch-free pass (it vectorises) tells.
+    let plain = bytes.iter().fold(true, |plain, &b| {
+        plain & (b >= 0x20) & (b != b'"') & (b != b'\\')
+    });
+    if plain {
+        line.extend_from_slice(bytes);
+        line.push(b'"');
+        return;
+    }
     let mut plain_from = 0;
     for (at, &byte) in bytes.iter().enumerate() {
         let escape: &[u8] = match byte {
