@@ -27,6 +27,3 @@ fn main() -> ExitCode {
         }
     }
 }
-
-#[global_allocator]
-static ALLOCATOR: mimalloc::MiMalloc = mimalloc::MiMalloc;
