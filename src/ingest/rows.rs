@@ -184,24 +184,15 @@ pub fn table_runs(
         }
     }
 
-    // Rows are independent: assemble them in parallel, keeping their order.
-    let assembled: Vec<Result<RunInput, (usize, Vec<Problem>)>> = row_problems
+    // Rows are independent: assemble them in parallel, keeping their order (rayon's
+    // partition keeps the order within each side), straight into runs and bad rows.
+    let (runs, bad_rows): (Vec<RunInput>, Vec<(usize, Vec<Problem>)>) = row_problems
         .into_par_iter()
         .enumerate()
-        .map(|(i, found)| {
-            table
-                .assemble(i, found)
-                .map_err(|p| (row_offset + i + 1, p))
-        })
-        .collect();
-    let mut runs = Vec::with_capacity(height);
-    let mut bad_rows = Vec::new();
-    for result in assembled {
-        match result {
-            Ok(run) => runs.push(run),
-            Err(bad) => bad_rows.push(bad),
-        }
-    }
+        .partition_map(|(i, found)| match table.assemble(i, found) {
+            Ok(run) => rayon::iter::Either::Left(run),
+            Err(problems) => rayon::iter::Either::Right((row_offset + i + 1, problems)),
+        });
     TableRuns {
         runs,
         bad_rows,
