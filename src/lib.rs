@@ -99,26 +99,30 @@ pub fn audit_sources(
 /// the benchmark: read, math and writing separately).
 pub fn timing(phase: &str, started: std::time::Instant) {
     if std::env::var_os("GAPCERT_TIMING").is_some() {
+        let (cpu, faults) = process_usage();
         eprintln!(
-            "timing: {phase} {:.3} s (process CPU so far {:.3} s)",
+            "timing: {phase} {:.3} s (process so far: CPU {cpu:.3} s, {faults} page faults)",
             started.elapsed().as_secs_f64(),
-            process_cpu_seconds()
         );
     }
 }
 
-/// User plus system CPU time of the whole process so far (for `GAPCERT_TIMING`).
-fn process_cpu_seconds() -> f64 {
+/// User plus system CPU seconds and minor page faults of the whole process so far
+/// (for `GAPCERT_TIMING`).
+fn process_usage() -> (f64, i64) {
     // SAFETY: getrusage only writes the struct it is given.
     let usage = unsafe {
         let mut usage: libc::rusage = std::mem::zeroed();
         if libc::getrusage(libc::RUSAGE_SELF, &mut usage) != 0 {
-            return f64::NAN;
+            return (f64::NAN, -1);
         }
         usage
     };
     let seconds = |t: libc::timeval| t.tv_sec as f64 + t.tv_usec as f64 * 1e-6;
-    seconds(usage.ru_utime) + seconds(usage.ru_stime)
+    (
+        seconds(usage.ru_utime) + seconds(usage.ru_stime),
+        usage.ru_minflt,
+    )
 }
 
 /// Installs a panic hook that stays silent while a guarded reader runs (its panic is
