@@ -180,10 +180,8 @@ impl<'a> Auditor<'a> {
         // repeat the same (rate, claim, δ/K), so each distinct one is solved once and
         // remembered. Looked up inside the parallel map: no serial pass over the batch.
         let holdout_needed = |r: &RunResult| -> Option<u64> {
-            let claim = match (r.verdict, r.claim_error_rate) {
-                (Verdict::Unproven, Some(claim)) if r.holdout_error_rate < claim => claim,
-                _ => return None,
-            };
+            let claim =
+                run::claim_needing_size(r.verdict, r.holdout_error_rate, r.claim_error_rate)?;
             let key: ClaimKey = (
                 r.holdout_error_rate.to_bits(),
                 claim.to_bits(),
@@ -193,9 +191,9 @@ impl<'a> Auditor<'a> {
                 return known;
             }
             let needed = holdout_needed_for(
-                Verdict::Unproven,
+                r.verdict,
                 r.holdout_error_rate,
-                Some(claim),
+                r.claim_error_rate,
                 r.delta,
                 settings.holdout_bound,
             );

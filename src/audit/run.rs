@@ -23,6 +23,15 @@ pub struct RunContext {
     pub messages: bool,
 }
 
+/// The claim a held-out size is searched for (SPEC §4): only an unproven claim above
+/// the observed rate; `holdout_needed` is null otherwise.
+pub fn claim_needing_size(verdict: Verdict, rate: f64, claim: Option<f64>) -> Option<f64> {
+    match (verdict, claim) {
+        (Verdict::Unproven, Some(claim)) if rate < claim => Some(claim),
+        _ => None,
+    }
+}
+
 /// `holdout_needed` (SPEC §4): null unless the claim is unproven and the observed rate
 /// is below it.
 pub fn holdout_needed_for(
@@ -32,16 +41,12 @@ pub fn holdout_needed_for(
     delta_per_run: f64,
     bound: HoldoutBound,
 ) -> Option<u64> {
-    match (verdict, claim) {
-        (Verdict::Unproven, Some(claim)) if rate < claim => match bound {
-            HoldoutBound::Binomial => {
-                sample_size::holdout_needed_binomial(rate, claim, delta_per_run)
-            }
-            HoldoutBound::Hoeffding => {
-                sample_size::holdout_needed_hoeffding(rate, claim, delta_per_run)
-            }
-        },
-        _ => None,
+    let claim = claim_needing_size(verdict, rate, claim)?;
+    match bound {
+        HoldoutBound::Binomial => sample_size::holdout_needed_binomial(rate, claim, delta_per_run),
+        HoldoutBound::Hoeffding => {
+            sample_size::holdout_needed_hoeffding(rate, claim, delta_per_run)
+        }
     }
 }
 
