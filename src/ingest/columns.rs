@@ -377,7 +377,7 @@ mod tests {
     use super::*;
 
     /// The chunk-by-chunk copy equals polars' own cell iterator on chunks with and
-    /// without nulls, and on a chunk whose validity map marks every cell valid.
+    /// without nulls (including one built from options that are all present).
     #[test]
     fn numeric_cells_match_polars_iteration() {
         let mut floats = Float64Chunked::from_slice(PlSmallStr::from("x"), &[1.5, -2.0, 3.25]);
