@@ -544,7 +544,12 @@ pub fn run_plan_holdout(args: &PlanHoldoutArgs, terminal: Terminal) -> Result<Ou
             writeln!(
                 out,
                 "To certify accuracy ≥ {} (error ≤ {}) at an observed error rate of {} with confidence {} and {} candidate(s) compared (δ/K = {:.3e}):",
-                args.claim_accuracy, claim, args.error_rate, args.confidence, args.candidates, alpha
+                args.claim_accuracy,
+                report::text::plain_number(claim),
+                args.error_rate,
+                args.confidence,
+                args.candidates,
+                alpha
             )?;
             writeln!(
                 out,

@@ -108,6 +108,30 @@ fn plan_holdout_matches_reference_sample_sizes() {
 }
 
 #[test]
+fn plan_holdout_sentence_shows_the_claimed_error_without_float_noise() {
+    // 1 − 0.97 is 0.030000000000000027 in binary floating point; the sentence says
+    // 0.03 (the JSON keeps the exact value). Only the wording is checked here; the
+    // sizes are checked against the reference table in the test above.
+    let output = gapcert(&[
+        "plan",
+        "holdout",
+        "--error-rate",
+        "0.02",
+        "--claim-accuracy",
+        "0.97",
+        "--candidates",
+        "20",
+    ]);
+    let text = stdout(&output);
+    assert!(
+        text.contains(
+            "To certify accuracy ≥ 0.97 (error ≤ 0.03) at an observed error rate of 0.02"
+        ),
+        "{text}"
+    );
+}
+
+#[test]
 fn plan_train_matches_reference_sample_sizes() {
     for (args, expected) in [
         (
