@@ -378,11 +378,20 @@ fn emit_report(
     terminal: Terminal,
 ) -> Result<(), AppError> {
     match output {
-        Some(path) => write_file(path, |out| report::write_report(doc, format, out, false)),
+        Some(path) => write_file(path, |out| {
+            report::write_report(doc, format, out, false, None)
+        }),
         None if terminal.quiet => Ok(()),
         None => {
-            let color = io::stdout().is_terminal() && std::env::var_os("NO_COLOR").is_none();
-            write_stdout(|out| report::write_report(doc, format, out, color))
+            let on_terminal = io::stdout().is_terminal();
+            let color = on_terminal && std::env::var_os("NO_COLOR").is_none();
+            // comfy-table asks the terminal for its size (stdout is the terminal here).
+            let width = if on_terminal {
+                comfy_table::Table::new().width()
+            } else {
+                None
+            };
+            write_stdout(|out| report::write_report(doc, format, out, color, width))
         }
     }
 }

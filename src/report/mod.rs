@@ -32,15 +32,17 @@ impl OutputFormat {
     }
 }
 
-/// Writes the document in `format`.
+/// Writes the document in `format`. `color` and `width` (the terminal's) matter only
+/// to the table.
 pub fn write_report(
     doc: &AuditDocument,
     format: OutputFormat,
     out: &mut dyn Write,
     color: bool,
+    width: Option<u16>,
 ) -> io::Result<()> {
     match format {
-        OutputFormat::Table => table::write_table(doc, out, color),
+        OutputFormat::Table => table::write_table(doc, out, color, width),
         OutputFormat::Json => {
             serde_json::to_writer_pretty(&mut *out, doc)?;
             out.write_all(b"\n")
