@@ -400,6 +400,27 @@ const BAD_CASES: &[(&str, &[(usize, &str)])] = &[
 ];
 
 #[test]
+fn semicolon_separated_csv_gets_a_hint_about_the_separator() {
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("export.csv");
+    std::fs::write(&path, "run;holdout_n;holdout_error_rate\na;1000;0.02\n").unwrap();
+    let output = gapcert(&["audit", path.to_str().unwrap()]);
+    assert_eq!(output.status.code(), Some(2));
+    let err = stderr(&output);
+    assert!(
+        err.contains("missing required column holdout_n")
+            && err.contains("single column `run;holdout_n;holdout_error_rate`")
+            && err.contains("the file looks semicolon-separated"),
+        "{err}"
+    );
+    // A comma-separated file that merely lacks the column gets no such hint.
+    std::fs::write(&path, "run,n,holdout_error_rate\na,1000,0.02\n").unwrap();
+    let err = stderr(&gapcert(&["audit", path.to_str().unwrap()]));
+    assert!(err.contains("missing required column holdout_n"), "{err}");
+    assert!(!err.contains("looks"), "{err}");
+}
+
+#[test]
 fn bad_rows_are_all_reported_with_file_row_and_column() {
     let dir = tempfile::tempdir().unwrap();
     for (file, problems) in BAD_CASES {

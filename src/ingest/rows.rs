@@ -37,6 +37,31 @@ pub struct TableRuns {
     pub file_problems: Vec<Problem>,
 }
 
+/// When a delimited file was read as one column whose name holds another separator
+/// (a semicolon-separated export saved as `.csv`), says so: otherwise the only
+/// message is a missing column that the user can see in their header.
+fn other_separator_hint(df: &DataFrame) -> String {
+    let names = df.get_column_names();
+    let [name] = names.as_slice() else {
+        return String::new();
+    };
+    let name = name.as_str();
+    let Some(separator) = [';', '\t', '|'].into_iter().find(|&c| name.contains(c)) else {
+        return String::new();
+    };
+    let shown: String = name.chars().take(60).collect();
+    let ellipsis = if shown.len() < name.len() { "…" } else { "" };
+    let advice = match separator {
+        '\t' => "the file looks tab-separated: name it .tsv",
+        ';' => "the file looks semicolon-separated, but .csv files are read as comma-separated and .tsv files as tab-separated",
+        _ => "the file looks separated by vertical bars, but .csv files are read as comma-separated and .tsv files as tab-separated",
+    };
+    format!(
+        " (the header was read as the single column `{}{ellipsis}`; {advice})",
+        shown.escape_debug()
+    )
+}
+
 /// Reads every run of `df`, a batch of rows that starts after `row_offset` rows of
 /// its file. `label` names the file in `source` and in problems; `cell_problems` are
 /// numbered within the batch, and every row number that comes out is the file's.
@@ -64,8 +89,9 @@ pub fn table_runs(
         file_problems.push(Problem::file(
             label,
             format!(
-                "missing required column holdout_n{}; use --map holdout_n=<your column> if it has another name",
-                mapped("holdout_n")
+                "missing required column holdout_n{}; use --map holdout_n=<your column> if it has another name{}",
+                mapped("holdout_n"),
+                other_separator_hint(df)
             ),
         ));
     }
