@@ -400,6 +400,34 @@ const BAD_CASES: &[(&str, &[(usize, &str)])] = &[
 ];
 
 #[test]
+fn a_percent_sign_in_a_rate_gets_advice() {
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("runs.csv");
+    std::fs::write(
+        &path,
+        "run,holdout_n,holdout_accuracy,claimed_accuracy\na,100,97%,0.9\nb,100,n/a,0.9\n",
+    )
+    .unwrap();
+    let output = gapcert(&["audit", path.to_str().unwrap()]);
+    assert_eq!(output.status.code(), Some(2));
+    let err = stderr(&output);
+    let file = path.to_str().unwrap();
+    assert!(
+        err.contains(&format!(
+            "{file}:1: holdout_accuracy = \"97%\" is not a number: write the rate as a fraction"
+        )),
+        "{err}"
+    );
+    // Text that is not a number with a percent sign gets the plain message.
+    assert!(
+        err.contains(&format!(
+            "{file}:2: holdout_accuracy = \"n/a\" is not a number\n"
+        )),
+        "{err}"
+    );
+}
+
+#[test]
 fn semicolon_separated_csv_gets_a_hint_about_the_separator() {
     let dir = tempfile::tempdir().unwrap();
     let path = dir.path().join("export.csv");

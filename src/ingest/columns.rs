@@ -196,7 +196,7 @@ pub fn extract_f64(
                                 label,
                                 row + 1,
                                 &name,
-                                format!("{name} = {value:?} is not a number"),
+                                not_a_number(&name, value),
                             ));
                             None
                         }
@@ -370,6 +370,21 @@ fn unreadable_column<T>(
 /// validator can name them, rather than calling them "not a number".
 pub fn parse_float(text: &str) -> Option<f64> {
     text.parse::<f64>().ok()
+}
+
+/// The problem text for a cell that does not parse as a number; a trailing percent
+/// sign on a number gets advice, since logs often write "97%".
+fn not_a_number(name: &str, value: &str) -> String {
+    let percent_sign = value
+        .strip_suffix('%')
+        .is_some_and(|number| parse_float(number.trim()).is_some());
+    if percent_sign {
+        format!(
+            "{name} = {value:?} is not a number: write the rate as a fraction (without %), or the percentage without % and pass --percent"
+        )
+    } else {
+        format!("{name} = {value:?} is not a number")
+    }
 }
 
 #[cfg(test)]
