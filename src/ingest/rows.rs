@@ -401,10 +401,24 @@ impl Extracted<'_> {
             h_n,
             &mut found,
         );
+        // A cell that did not parse is already reported; it is not "empty".
+        let unparsed = || {
+            [
+                "holdout_error_rate",
+                "holdout_accuracy",
+                "holdout_misclassified",
+            ]
+            .iter()
+            .any(|&canonical| {
+                let name = self.name(canonical);
+                !name.is_empty() && row_has_problem_in(&found, name)
+            })
+        };
         if holdout.is_none()
             && self.float("holdout_error_rate", i).is_none()
             && self.float("holdout_accuracy", i).is_none()
             && holdout_count.is_none()
+            && !unparsed()
         {
             found.push(Problem::row(
                 label,
