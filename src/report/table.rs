@@ -267,6 +267,20 @@ mod tests {
     use crate::audit::AuditSettings;
     use crate::ingest::IngestSettings;
 
+    /// The demo's headers (the default binomial bound).
+    const ALL_HEADERS: [&str; 10] = [
+        "verdict",
+        "run",
+        "held-out error",
+        "binomial interval",
+        "claim",
+        "upper bound",
+        "VC allowance",
+        "held-out needed",
+        "train needed",
+        "findings",
+    ];
+
     fn demo_table(width: Option<u16>) -> (AuditDocument, String) {
         let doc = crate::audit_sources(
             &crate::demo::sources(),
@@ -289,18 +303,7 @@ mod tests {
     fn without_a_terminal_every_column_is_printed_on_one_line() {
         let (_, text) = demo_table(None);
         let header = table_lines(&text)[1];
-        for name in [
-            "verdict",
-            "run",
-            "held-out error",
-            "binomial interval",
-            "claim",
-            "upper bound",
-            "VC allowance",
-            "held-out needed",
-            "train needed",
-            "findings",
-        ] {
+        for name in ALL_HEADERS {
             assert!(header.contains(name), "{name} missing from {header}");
         }
         assert!(!text.contains("Left out"));
@@ -376,18 +379,7 @@ mod tests {
                 }
             }
             let note = text.lines().find(|line| line.starts_with("Left out"));
-            for name in [
-                "verdict",
-                "run",
-                "held-out error",
-                "binomial interval",
-                "claim",
-                "upper bound",
-                "VC allowance",
-                "held-out needed",
-                "train needed",
-                "findings",
-            ] {
+            for name in ALL_HEADERS {
                 let shown = headers.iter().any(|header| header == name);
                 let noted = note.is_some_and(|note| note.contains(name));
                 assert!(
