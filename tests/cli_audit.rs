@@ -400,6 +400,20 @@ const BAD_CASES: &[(&str, &[(usize, &str)])] = &[
 ];
 
 #[test]
+fn an_unreadable_json_record_is_reported_once() {
+    let path = "fixtures/bad/truncated.jsonl";
+    let output = gapcert(&["audit", path]);
+    assert_eq!(output.status.code(), Some(2));
+    let err = stderr(&output);
+    let record_4: Vec<&str> = err
+        .lines()
+        .filter(|l| l.contains(&format!("{path}:4:")))
+        .collect();
+    assert_eq!(record_4.len(), 1, "{err}");
+    assert!(record_4[0].contains("invalid JSON"), "{err}");
+}
+
+#[test]
 fn a_percent_sign_in_a_rate_gets_advice() {
     let dir = tempfile::tempdir().unwrap();
     let path = dir.path().join("runs.csv");

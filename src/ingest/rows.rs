@@ -314,6 +314,12 @@ impl Extracted<'_> {
 
     /// Validates row `i` (0-based) into a run, or returns every problem of the row.
     fn assemble(&self, i: usize, mut found: Vec<Problem>) -> Result<RunInput, Vec<Problem>> {
+        // A problem without a column before any check is a record that could not be
+        // read at all (invalid JSON, or JSON that is not an object): its cells are all
+        // missing, and saying so column by column would only repeat that.
+        if found.iter().any(|problem| problem.column.is_none()) {
+            return Err(found);
+        }
         let label = self.label;
         let settings = self.settings;
         let row = self.row_offset + i + 1;
