@@ -285,6 +285,7 @@ fn run_streaming_audit(
         }
     };
     list_skipped(terminal, &prepared.skipped_files, &prepared.skipped_rows);
+    progress.auditing(prepared.runs());
     let started = std::time::Instant::now();
     let mut summary = None;
     let stream = |out: &mut dyn Write| -> io::Result<()> {
@@ -293,14 +294,18 @@ fn run_streaming_audit(
         }
         // Lines are formatted on a stage of their own, so this thread only copies
         // bytes out while the next batches are audited and formatted.
-        let format_batch = |runs: Vec<crate::audit::RunResult>| match format {
-            OutputFormat::Csv => report::flat::format_csv_rows(&runs),
-            _ => report::flat::format_ndjson(&runs),
+        let format_batch = |runs: Vec<crate::audit::RunResult>| {
+            let lines = match format {
+                OutputFormat::Csv => report::flat::format_csv_rows(&runs),
+                _ => report::flat::format_ndjson(&runs),
+            };
+            (runs.len(), lines)
         };
         // A reader that stops early (`| head`) ends the output, not the audit: the
         // gate still needs every run.
         let mut closed = false;
-        let mut sink = |buffers: Vec<io::Result<Vec<u8>>>| -> io::Result<()> {
+        let mut sink = |(runs, buffers): (usize, Vec<io::Result<Vec<u8>>>)| -> io::Result<()> {
+            progress.audited(runs);
             if closed {
                 return Ok(());
             }
@@ -459,6 +464,28 @@ impl Progress {
         }
         if done == total {
             bar.set_message("auditing");
+        }
+    }
+
+    /// The audit proper starts (streaming audits, which know how many runs there
+    /// are): the spinner becomes a bar of runs audited.
+    pub fn auditing(&self, total_runs: usize) {
+        let Some(bar) = &self.bar else { return };
+        bar.set_length(total_runs as u64);
+        bar.set_position(0);
+        bar.set_style(
+            ProgressStyle::with_template(
+                "{bar:30} {human_pos}/{human_len} runs audited ({elapsed}, about {eta} left)",
+            )
+            .unwrap_or_else(|_| ProgressStyle::default_bar()),
+        );
+        bar.set_message("");
+    }
+
+    /// `runs` more runs are audited and written.
+    pub fn audited(&self, runs: usize) {
+        if let Some(bar) = &self.bar {
+            bar.inc(runs as u64);
         }
     }
 
@@ -757,4 +784,29 @@ pub fn run_families(format: SimpleFormatArg, terminal: Terminal) -> Result<Outco
         }),
     }?;
     Ok(Outcome::Pass)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn progress_counts_runs_audited_against_the_total() {
+        // A bar that draws nowhere (tests have no terminal on stderr).
+        let progress = Progress {
+            bar: Some(ProgressBar::hidden()),
+        };
+        progress.auditing(1_000);
+        progress.audited(400);
+        progress.audited(250);
+        let bar = progress.bar.as_ref().expect("bar");
+        assert_eq!(bar.length(), Some(1_000));
+        assert_eq!(bar.position(), 650);
+        progress.finish();
+        // Without a terminal there is no bar, and the calls do nothing.
+        let silent = Progress { bar: None };
+        silent.auditing(10);
+        silent.audited(10);
+        silent.finish();
+    }
 }
