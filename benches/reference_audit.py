@@ -31,6 +31,7 @@ import argparse
 import json
 import math
 import sys
+from decimal import Decimal
 from functools import lru_cache
 
 import numpy as np
@@ -328,9 +329,9 @@ def read_runs(path: str) -> pd.DataFrame:
     elif low.endswith((".arrow", ".ipc", ".feather")):
         df = pd.read_feather(path)
     elif low.endswith((".jsonl", ".ndjson")):
-        df = pd.read_json(path, lines=True, dtype=False)
+        df = pd.read_json(path, lines=True, dtype=False, precise_float=True)
     elif low.endswith(".json"):
-        df = pd.read_json(path, dtype=False)
+        df = pd.read_json(path, dtype=False, precise_float=True)
     else:
         df = pd.read_csv(path, sep="\t" if low.endswith(".tsv") else ",",
                          dtype={"run": str, "family": str, "holdout_set": str},
@@ -355,17 +356,29 @@ def error_rate(df, prefix, n):
     if bad.any():
         raise ValueError(f"{prefix}: error rate and accuracy disagree in rows "
                          f"{list(np.flatnonzero(bad) + 1)}")
-    rate = rate_col.where(rate_col.notna(), 1.0 - acc_col)
+    rate = rate_col.where(rate_col.notna(), complements(acc_col))
     rate = rate.where(rate.notna(), cnt_col / n)
     derived = cnt_col.isna() & rate.notna()
     count = cnt_col.where(cnt_col.notna(), np.floor(rate * n + 0.5))
     return rate, count, derived
 
 
+def complement(x):
+    """1 - x from the shortest decimal of x (its repr), rounded once to a float: the
+    error rate a logged accuracy such as 0.9 means (0.1, not 0.09999999999999998)."""
+    if x != x or not 0.0 <= x <= 1.0:
+        return 1.0 - x
+    return float(Decimal(1) - Decimal(repr(float(x))))
+
+
+def complements(series: pd.Series) -> pd.Series:
+    return series.map(complement, na_action="ignore").astype("float64")
+
+
 def audit(df: pd.DataFrame, source: str, confidence=0.95, holdout_bound="binomial",
           same_holdout=False, familywise=False, tolerance=0.05, max_width=0.10):
     rows = len(df)
-    delta0 = 1.0 - confidence
+    delta0 = complement(confidence)
     out = pd.DataFrame(index=df.index)
     out["run"] = (df["run"].astype("string") if "run" in df.columns
                   else pd.Series(pd.NA, index=df.index, dtype="string"))
@@ -388,7 +401,7 @@ def audit(df: pd.DataFrame, source: str, confidence=0.95, holdout_bound="binomia
     both = claim.notna() & claim_acc.notna()
     if (both & ((claim + claim_acc - 1.0).abs() > CONFLICT_TOL)).any():
         raise ValueError("claimed_error_rate and claimed_accuracy disagree")
-    claim = claim.where(claim.notna(), 1.0 - claim_acc)
+    claim = claim.where(claim.notna(), complements(claim_acc))
     has_claim = claim.notna()
 
     # Selection correction: K = max(candidates, rows sharing the split).

@@ -344,7 +344,7 @@ def mp_holdout_needed(rate_double: float, claim, alpha):
             return n
 
 
-def mp_audit(row: dict, K: int, delta=1 - mp.mpf(0.95), tol=mp.mpf("0.05"),
+def mp_audit(row: dict, K: int, delta=1 - mp.mpf("0.95"), tol=mp.mpf("0.05"),
              max_width=mp.mpf("0.1"), theory=True, needed=True) -> dict:
     """SPEC §4 for one run with counts logged, at 40 digits. `row` holds Python numbers."""
     n, k = row["holdout_n"], row["holdout_misclassified"]
@@ -353,7 +353,10 @@ def mp_audit(row: dict, K: int, delta=1 - mp.mpf(0.95), tol=mp.mpf("0.05"),
         else mp.mpf(k) / n
     e_in = mp.mpf(row["train_error_rate"])  # the double as logged, exactly
     N = row["train_n"]
-    claim = 1 - mp.mpf(row["claimed_accuracy"]) if row.get("claimed_accuracy") is not None else None
+    # Decimal complements, as gapcert takes them (src/ingest/decimal.rs): the accuracy's
+    # shortest decimal (repr), not its binary value.
+    claim = (1 - mp.mpf(repr(row["claimed_accuracy"]))
+             if row.get("claimed_accuracy") is not None else None)
     alpha = delta / K
     w2 = mp.sqrt(mp.log(2 * K / delta) / (2 * n))
     w1 = mp.sqrt(mp.log(K / delta) / (2 * n))
@@ -852,8 +855,8 @@ def write_worked_readme(wk, text):
         else:
             L += ["**holdout_needed = null** (the run is certified or refuted).", ""]
         tn = m["train_needed"]
-        om_at = mp_allowance(mp.log(exact_growth(fam, params, 2 * tn)), tn, 1 - mp.mpf(0.95))
-        om_before = mp_allowance(mp.log(exact_growth(fam, params, 2 * (tn - 1))), tn - 1, 1 - mp.mpf(0.95))
+        om_at = mp_allowance(mp.log(exact_growth(fam, params, 2 * tn)), tn, 1 - mp.mpf("0.95"))
+        om_before = mp_allowance(mp.log(exact_growth(fam, params, 2 * (tn - 1))), tn - 1, 1 - mp.mpf("0.95"))
         L += [f"**train_needed = {tn}**: Ω({tn}) = {fmt(om_at, 10)} ≤ 0.05 < Ω({tn - 1}) = {fmt(om_before, 10)} "
               "(Ω falls with N; found by bisection on exact integer growth values).", ""]
     (wk / "README.md").write_text("\n".join(L))

@@ -523,7 +523,7 @@ fn family_from_args(args: &FamilyArgs) -> Result<Family, AppError> {
 
 fn check_confidence(confidence: f64) -> Result<f64, AppError> {
     if confidence > 0.0 && confidence < 1.0 {
-        Ok(1.0 - confidence)
+        Ok(crate::ingest::decimal::complement(confidence))
     } else {
         Err(AppError(format!(
             "--confidence {confidence} must be strictly between 0 and 1"
@@ -549,7 +549,7 @@ pub fn run_plan_holdout(args: &PlanHoldoutArgs, terminal: Terminal) -> Result<Ou
     if args.candidates == 0 {
         return Err(AppError("--candidates must be at least 1".into()));
     }
-    let claim = 1.0 - args.claim_accuracy;
+    let claim = crate::ingest::decimal::complement(args.claim_accuracy);
     let alpha = delta / args.candidates as f64;
     let binomial = sample_size::holdout_needed_binomial(args.error_rate, claim, alpha);
     let hoeffding = sample_size::holdout_needed_hoeffding(args.error_rate, claim, alpha);

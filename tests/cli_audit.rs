@@ -68,6 +68,27 @@ fn assert_matches_reference(runs: &[Value], expected_csv: &str, tolerance: f64) 
                 }
             }
         }
+        // Rates taken as the decimal complement of a logged accuracy (0.9 → 0.1) and
+        // δ = 1 − confidence are exact: the reference takes the same complement with
+        // Python's decimal module, so the two must agree to the last bit.
+        for field in [
+            "holdout_error_rate",
+            "train_error_rate",
+            "claim_error_rate",
+            "delta",
+        ] {
+            let want = row[field].trim();
+            if want.is_empty() {
+                continue;
+            }
+            let want: f64 = want.parse().unwrap();
+            if number(&run[field]) != Some(want) {
+                failures.push(format!(
+                    "{name}.{field}: expected exactly {want}, got {}",
+                    run[field]
+                ));
+            }
+        }
         for (field, index, column) in [
             ("hoeffding_interval", 0, "hoeffding_interval_lo"),
             ("hoeffding_interval", 1, "hoeffding_interval_hi"),

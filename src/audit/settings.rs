@@ -70,8 +70,9 @@ impl Default for AuditSettings {
 }
 
 impl AuditSettings {
-    /// δ = 1 − confidence before any correction.
+    /// δ = 1 − confidence before any correction, from the confidence's decimal digits
+    /// (0.95 gives 0.05, not 0.050000000000000044).
     pub fn delta(&self) -> f64 {
-        1.0 - self.confidence
+        crate::ingest::decimal::complement(self.confidence)
     }
 }

@@ -5,6 +5,7 @@
 //! them at once.
 
 pub mod columns;
+pub mod decimal;
 pub mod discover;
 pub mod formats;
 mod preflight;

@@ -10,6 +10,7 @@ use super::columns::{
     bind_columns, cell_kind, column_name, extract_f64, extract_i64, text_cells, text_series,
     CellKind,
 };
+use super::decimal::{complement, percent_to_fraction};
 use super::problem::Problem;
 use super::settings::IngestSettings;
 use super::RunInput;
@@ -332,7 +333,11 @@ impl Extracted<'_> {
         let mut check_fraction = |canonical: &'static str| -> Option<f64> {
             let value = self.float(canonical, i)?;
             if (0.0..=scale).contains(&value) {
-                return Some(value / scale);
+                return Some(if settings.percent {
+                    percent_to_fraction(value)
+                } else {
+                    value
+                });
             }
             let name = self.name(canonical);
             if value.is_nan() {
@@ -466,8 +471,8 @@ impl Extracted<'_> {
                 Some(error)
             }
             (Some(error), None) => Some(error),
-            (None, Some(accuracy)) => Some(1.0 - accuracy),
-            (None, None) => settings.default_claim_accuracy.map(|a| 1.0 - a),
+            (None, Some(accuracy)) => Some(complement(accuracy)),
+            (None, None) => settings.default_claim_accuracy.map(complement),
         };
 
         let family_key = self.text("family", i);
@@ -630,7 +635,7 @@ fn error_of_row(
         },
         None => None,
     };
-    let logged_rate = rate.or(accuracy.map(|a| 1.0 - a));
+    let logged_rate = rate.or(accuracy.map(complement));
     if let (Some(logged_rate), Some(count), Some(n)) = (logged_rate, count, n) {
         let from_count = count as f64 / n as f64;
         if (from_count - logged_rate).abs() > COUNT_RATE_TOLERANCE + 0.5 / n as f64 {

@@ -254,7 +254,7 @@ fn summary_band(doc: &AuditDocument, page: &mut String) {
         format!(
             "{} (δ = {:.4})",
             settings.confidence,
-            1.0 - settings.confidence
+            crate::ingest::decimal::complement(settings.confidence)
         ),
     );
     setting(
@@ -639,7 +639,7 @@ fn run_rows(doc: &AuditDocument, run: &RunResult) -> String {
         Some(c) => format!(
             "{}<span class=\"sub\">accuracy ≥ {}</span>",
             percent(c),
-            percent(1.0 - c)
+            percent(crate::ingest::decimal::complement(c))
         ),
         None => "—".to_string(),
     };
