@@ -24,8 +24,7 @@ pub fn complement(x: f64) -> f64 {
     if x == 0.0 || x == 1.0 {
         return 1.0 - x;
     }
-    let mut buffer = zmij::Buffer::new();
-    let Some((digits, places)) = decimal_digits(buffer.format_finite(x)) else {
+    let Some((digits, places)) = shortest_decimal(x) else {
         return 1.0 - x;
     };
     // x = digits / 10^places exactly, with 0 < x < 1, so digits < 10^places.
@@ -44,18 +43,51 @@ pub fn percent_to_fraction(x: f64) -> f64 {
     if !x.is_finite() || x <= 0.0 {
         return x / 100.0;
     }
-    let mut buffer = zmij::Buffer::new();
-    let Some((digits, places)) = decimal_digits(buffer.format_finite(x)) else {
+    let Some((digits, places)) = shortest_decimal(x) else {
         return x / 100.0;
     };
     correctly_rounded(digits, places + 2).unwrap_or(x / 100.0)
 }
 
+/// The shortest decimal that reads back as `x` (finite, x ≥ 0), as `(D, n)` with
+/// x = D / 10^n, the digits a shortest round-trip formatter prints.
+///
+/// Fast path, for the usual few digits: the fewest places n ≤ 10 for which an
+/// integer D < 10^15 gives D / 10^n == x. The division is correctly rounded (both
+/// are exact in f64), so this is the round-trip test itself; below 10^15 at most one
+/// D per n can pass (neighbouring 15-digit decimals are further apart than f64
+/// spacing), so the result is the formatter's. That D is the rounded x·10^n: x is
+/// within 2⁻⁵³·x of D/10^n, so x·10^n (itself rounded) is within 2·2⁻⁵³·10¹⁵ < 0.25
+/// of D. Anything longer is formatted (zmij, the shortest round-trip digits) and
+/// parsed.
+fn shortest_decimal(x: f64) -> Option<(u128, u32)> {
+    // Up to 10 places: hand-written accuracies and confidences have a few digits, and
+    // for computed values (16–17 digits) the formatter is quicker than more steps.
+    for (places, &scale) in (0u32..).zip(&POWERS_OF_TEN[..=10]) {
+        let scaled = x * scale;
+        if scaled >= 1e15 {
+            break;
+        }
+        let digits = scaled.round();
+        if digits / scale == x {
+            return Some((digits as u64 as u128, places));
+        }
+    }
+    let mut buffer = zmij::Buffer::new();
+    decimal_digits(buffer.format_finite(x))
+}
+
+/// 10⁰ … 10²², every power of ten that f64 holds exactly.
+const POWERS_OF_TEN: [f64; 23] = [
+    1e0, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10, 1e11, 1e12, 1e13, 1e14, 1e15, 1e16,
+    1e17, 1e18, 1e19, 1e20, 1e21, 1e22,
+];
+
 /// The f64 nearest to `digits / 10^places`.
 fn correctly_rounded(digits: u128, places: u32) -> Option<f64> {
     // Both integers exact in f64 (below 2^53 and 10^22): one correctly rounded division.
     if digits < (1 << 53) && places <= 22 {
-        return Some(digits as f64 / 10u128.pow(places) as f64);
+        return Some(digits as u64 as f64 / POWERS_OF_TEN[places as usize]);
     }
     if places > 38 {
         return None;
@@ -67,22 +99,24 @@ fn correctly_rounded(digits: u128, places: u32) -> Option<f64> {
 
 /// `(D, n)` with the decimal `text` = D / 10^n, from a plain ("0.0585", "100.0") or
 /// scientific ("5.85e-2", "1e-7", "1e22") number without sign; None for anything
-/// else or more than 38 significant digits.
+/// else or more than 19 significant digits.
 fn decimal_digits(text: &str) -> Option<(u128, u32)> {
     let (mantissa, exponent) = match text.split_once(['e', 'E']) {
         Some((mantissa, exponent)) => (mantissa, exponent.parse::<i32>().ok()?),
         None => (text, 0),
     };
     let (whole, fraction) = mantissa.split_once('.').unwrap_or((mantissa, ""));
-    let mut digits: u128 = 0;
+    // At most 17 significant digits come from the formatter: u64 holds 19.
+    let mut digits: u64 = 0;
     for byte in whole.bytes().chain(fraction.bytes()) {
         if !byte.is_ascii_digit() {
             return None;
         }
         digits = digits
             .checked_mul(10)?
-            .checked_add(u128::from(byte - b'0'))?;
+            .checked_add(u64::from(byte - b'0'))?;
     }
+    let digits = u128::from(digits);
     let places = i32::try_from(fraction.len()).ok()? - exponent;
     if places < 0 {
         let shift = 10u128.checked_pow(places.unsigned_abs())?;
@@ -130,6 +164,42 @@ mod tests {
         assert_eq!(decimal_digits("1e3"), Some((1000, 0)));
         assert_eq!(decimal_digits("100.0"), Some((1000, 1)));
         assert_eq!(decimal_digits("-0.5"), None);
+    }
+
+    /// The fast path finds the digits the formatter prints.
+    #[test]
+    fn shortest_decimal_agrees_with_the_formatter() {
+        let mut state = 0xD1B5_4A32_D192_ED03u64;
+        for _ in 0..200_000 {
+            state ^= state << 13;
+            state ^= state >> 7;
+            state ^= state << 17;
+            let x = (state >> 11) as f64 / (1u64 << 53) as f64;
+            for x in [
+                x,
+                (x * 1e3).round() / 1e3,
+                (x * 1e6).round() / 1e6,
+                (x * 1e12).round() / 1e12,
+                x * 1e-9,
+                x * 100.0,
+            ] {
+                let mut buffer = zmij::Buffer::new();
+                assert_eq!(
+                    shortest_decimal(x),
+                    decimal_digits(buffer.format_finite(x)).map(|(d, n)| strip_zeros(d, n)),
+                    "{x}"
+                );
+            }
+        }
+    }
+
+    /// The formatter may print "100.0": the same decimal without trailing zeros.
+    fn strip_zeros(mut digits: u128, mut places: u32) -> (u128, u32) {
+        while places > 0 && digits % 10 == 0 {
+            digits /= 10;
+            places -= 1;
+        }
+        (digits, places)
     }
 
     #[test]
