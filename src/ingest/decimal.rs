@@ -129,6 +129,15 @@ fn decimal_digits(text: &str) -> Option<(u128, u32)> {
 mod tests {
     use super::*;
 
+    /// Test inputs in [0, 1): xorshift64 (G. Marsaglia, "Xorshift RNGs", J. Stat.
+    /// Software 8(14), 2003), 53 bits.
+    fn uniform(state: &mut u64) -> f64 {
+        *state ^= *state << 13;
+        *state ^= *state >> 7;
+        *state ^= *state << 17;
+        (*state >> 11) as f64 / (1u64 << 53) as f64
+    }
+
     #[test]
     fn complements_of_decimals_are_the_decimals_the_user_means() {
         for (x, expected) in [
@@ -171,10 +180,7 @@ mod tests {
     fn shortest_decimal_agrees_with_the_formatter() {
         let mut state = 0xD1B5_4A32_D192_ED03u64;
         for _ in 0..200_000 {
-            state ^= state << 13;
-            state ^= state >> 7;
-            state ^= state << 17;
-            let x = (state >> 11) as f64 / (1u64 << 53) as f64;
+            let x = uniform(&mut state);
             for x in [
                 x,
                 (x * 1e3).round() / 1e3,
@@ -223,10 +229,7 @@ mod tests {
         // Within an ulp of the binary division everywhere in (0, 100].
         let mut state = 0x9E37_79B9_7F4A_7C15u64;
         for _ in 0..100_000 {
-            state ^= state << 13;
-            state ^= state >> 7;
-            state ^= state << 17;
-            let x = 100.0 * ((state >> 11) as f64 / (1u64 << 53) as f64);
+            let x = 100.0 * uniform(&mut state);
             for x in [x, (x * 100.0).round() / 100.0] {
                 let ours = percent_to_fraction(x);
                 let binary = x / 100.0;
@@ -244,11 +247,7 @@ mod tests {
     fn complement_stays_next_to_the_binary_one() {
         let mut state = 0x2545_F491_4F6C_DD1Du64;
         for _ in 0..200_000 {
-            // xorshift64 (Marsaglia 2003) for test inputs.
-            state ^= state << 13;
-            state ^= state >> 7;
-            state ^= state << 17;
-            let x = (state >> 11) as f64 / (1u64 << 53) as f64;
+            let x = uniform(&mut state);
             // Also decimals with few digits, the common case.
             let short = (x * 1e4).round() / 1e4;
             for x in [x, short, x * 1e-6] {
