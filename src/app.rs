@@ -581,7 +581,7 @@ pub fn run_plan_holdout(args: &PlanHoldoutArgs, terminal: Terminal) -> Result<Ou
                 out,
                 "To certify accuracy ≥ {} (error ≤ {}) at an observed error rate of {} with confidence {} and {} candidate(s) compared (δ/K = {:.3e}):",
                 args.claim_accuracy,
-                report::text::plain_number(claim),
+                claim,
                 args.error_rate,
                 args.confidence,
                 args.candidates,

@@ -109,9 +109,10 @@ fn plan_holdout_matches_reference_sample_sizes() {
 
 #[test]
 fn plan_holdout_sentence_shows_the_claimed_error_without_float_noise() {
-    // 1 − 0.97 is 0.030000000000000027 in binary floating point; the sentence says
-    // 0.03 (the JSON keeps the exact value). Only the wording is checked here; the
-    // sizes are checked against the reference table in the test above.
+    // 1.0 − 0.97 is 0.030000000000000027 in binary floating point; the claim is the
+    // decimal complement, 0.03 (src/ingest/decimal.rs), in the sentence as in the
+    // JSON. Only the wording is checked here; the sizes are checked against the
+    // reference table in the test above.
     let output = gapcert(&[
         "plan",
         "holdout",
@@ -129,6 +130,18 @@ fn plan_holdout_sentence_shows_the_claimed_error_without_float_noise() {
         ),
         "{text}"
     );
+    let (code, doc) = gapcert_json(&[
+        "plan",
+        "holdout",
+        "--error-rate",
+        "0.02",
+        "--claim-accuracy",
+        "0.97",
+        "--format",
+        "json",
+    ]);
+    assert_eq!(code, 0);
+    assert_eq!(doc["claim_error_rate"].as_f64(), Some(0.03));
 }
 
 #[test]

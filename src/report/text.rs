@@ -3,17 +3,6 @@
 use super::document::AuditDocument;
 use crate::audit::{GateResult, RunResult};
 
-/// A number for a sentence: rounded to 12 significant digits, then written in the
-/// shortest form that reads back as that value, so that a derived value such as
-/// 1 − 0.97 = 0.030000000000000027 reads "0.03". Machine outputs keep the exact value.
-pub fn plain_number(x: f64) -> String {
-    if !x.is_finite() {
-        return x.to_string();
-    }
-    let rounded: f64 = format!("{x:.11e}").parse().unwrap_or(x);
-    rounded.to_string()
-}
-
 /// A rate as a percentage with two decimals ("3.25%").
 pub fn percent(rate: f64) -> String {
     format!("{:.2}%", rate * 100.0)
@@ -72,21 +61,4 @@ pub fn summary_line(doc: &AuditDocument) -> String {
         ));
     }
     line
-}
-
-#[cfg(test)]
-mod tests {
-    use super::plain_number;
-
-    #[test]
-    fn plain_number_hides_representation_noise_only() {
-        assert_eq!(plain_number(1.0 - 0.97), "0.03");
-        assert_eq!(plain_number(1.0 - 0.999), "0.001");
-        assert_eq!(plain_number(0.1 + 0.2), "0.3");
-        // Values that need their digits keep them.
-        assert_eq!(plain_number(0.0123456789012), "0.0123456789012");
-        assert_eq!(plain_number(2.5e-15), "0.0000000000000025");
-        assert_eq!(plain_number(0.0), "0");
-        assert_eq!(plain_number(f64::NAN), "NaN");
-    }
 }
