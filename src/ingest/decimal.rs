@@ -18,10 +18,8 @@
 /// `1 − x` computed from the shortest decimal of `x`, for x in [0, 1]; other values
 /// (and NaN) give `1.0 − x`.
 pub fn complement(x: f64) -> f64 {
-    if !(0.0..=1.0).contains(&x) {
-        return 1.0 - x;
-    }
-    if x == 0.0 || x == 1.0 {
+    // 0, 1, values outside [0, 1] and NaN need no digits.
+    if !(x > 0.0 && x < 1.0) {
         return 1.0 - x;
     }
     let Some((digits, places)) = shortest_decimal(x) else {
