@@ -113,33 +113,22 @@ fn plan_holdout_sentence_shows_the_claimed_error_without_float_noise() {
     // decimal complement, 0.03 (src/ingest/decimal.rs), in the sentence as in the
     // JSON. Only the wording is checked here; the sizes are checked against the
     // reference table in the test above.
-    let output = gapcert(&[
+    let plan = [
         "plan",
         "holdout",
         "--error-rate",
         "0.02",
         "--claim-accuracy",
         "0.97",
-        "--candidates",
-        "20",
-    ]);
-    let text = stdout(&output);
+    ];
+    let text = stdout(&gapcert(&plan));
     assert!(
         text.contains(
             "To certify accuracy ≥ 0.97 (error ≤ 0.03) at an observed error rate of 0.02"
         ),
         "{text}"
     );
-    let (code, doc) = gapcert_json(&[
-        "plan",
-        "holdout",
-        "--error-rate",
-        "0.02",
-        "--claim-accuracy",
-        "0.97",
-        "--format",
-        "json",
-    ]);
+    let (code, doc) = gapcert_json(&[&plan[..], &["--format", "json"]].concat());
     assert_eq!(code, 0);
     assert_eq!(doc["claim_error_rate"].as_f64(), Some(0.03));
 }
