@@ -13,10 +13,10 @@ use std::path::{Path, PathBuf};
 use serde::{Deserialize, Serialize};
 use sha2::{Digest, Sha256};
 
-use crate::app::{write_file, write_stdout, AppError, Outcome, Terminal};
-use crate::cli::SimpleFormatArg;
-use crate::ingest::{self, hex, InputFile};
-use crate::report::document::AuditDocument;
+use crate::error::{describe_io_error, Error};
+use crate::ingest::{hex, InputFile};
+use crate::report::atomic::write_atomically;
+use crate::report::document::{AuditDocument, ToolInfo};
 
 /// Identifies the certificate layout.
 pub const CERTIFICATE_FORMAT: &str = "gapcert-certificate/1";
@@ -65,16 +65,13 @@ pub fn seal(document: &AuditDocument) -> BTreeMap<String, String> {
     seal
 }
 
-/// Writes a certificate for `document` (atomically).
-pub fn write_certificate(
-    path: &Path,
-    document: &AuditDocument,
-    paths: &[String],
-) -> Result<(), AppError> {
+/// The certificate of `document`, audited from `paths` as typed (empty for the demo's
+/// built-in logs), relative to the current working folder.
+pub fn certify(document: &AuditDocument, paths: &[String]) -> Certificate {
     let working_dir = std::env::current_dir()
         .map(|d| d.display().to_string())
         .unwrap_or_default();
-    let certificate = Certificate {
+    Certificate {
         document: document.clone(),
         certificate: CertificateInfo {
             format: CERTIFICATE_FORMAT.to_string(),
@@ -83,10 +80,26 @@ pub fn write_certificate(
             working_dir,
             seal: seal(document),
         },
-    };
-    write_file(path, |out| {
+    }
+}
+
+/// Writes a certificate for `document` (atomically).
+pub fn write_certificate(
+    path: &Path,
+    document: &AuditDocument,
+    paths: &[String],
+) -> Result<(), Error> {
+    let certificate = certify(document, paths);
+    write_atomically(path, |out| {
         serde_json::to_writer_pretty(&mut *out, &certificate)?;
         out.write_all(b"\n")
+    })
+    .map_err(|error| {
+        Error::Io(format!(
+            "{}: cannot write ({}); nothing was written there",
+            path.display(),
+            describe_io_error(&error)
+        ))
     })
 }
 
@@ -102,22 +115,22 @@ pub struct Drift {
 }
 
 /// Reads and checks a certificate file.
-pub fn read_certificate(path: &Path) -> Result<Certificate, AppError> {
+pub fn read_certificate(path: &Path) -> Result<Certificate, Error> {
     let text = std::fs::read_to_string(path).map_err(|error| {
-        AppError(format!(
+        Error::Io(format!(
             "{}: cannot read the certificate ({})",
             path.display(),
-            ingest::discover::describe_io_error(&error)
+            describe_io_error(&error)
         ))
     })?;
     let certificate: Certificate = serde_json::from_str(&text).map_err(|error| {
-        AppError(format!(
+        Error::Usage(format!(
             "{}: not a gapcert certificate ({error})",
             path.display()
         ))
     })?;
     if certificate.certificate.format != CERTIFICATE_FORMAT {
-        return Err(AppError(format!(
+        return Err(Error::Usage(format!(
             "{}: unknown certificate format {:?} (expected {CERTIFICATE_FORMAT:?})",
             path.display(),
             certificate.certificate.format
@@ -166,7 +179,7 @@ pub fn find_drift(certificate: &Certificate) -> Vec<Drift> {
     }
 
     // 2. The tool version.
-    let current = crate::report::ToolInfo::current();
+    let current = ToolInfo::current();
     if recorded.tool.version != current.version {
         drift.push(Drift {
             kind: "tool_version",
@@ -192,7 +205,7 @@ pub fn find_drift(certificate: &Certificate) -> Vec<Drift> {
     let audit_settings = recorded.settings.audit_settings();
     let ingest_settings = recorded.settings.ingest_settings();
     let present: Result<AuditDocument, String> = if info.demo {
-        crate::audit_sources(&crate::demo::sources(), &audit_settings, &ingest_settings)
+        crate::api::audit_sources(&crate::demo::sources(), &audit_settings, &ingest_settings)
             .map_err(|e| e.to_string())
     } else {
         let paths: Vec<PathBuf> = info.paths.iter().map(|p| resolve(p)).collect();
@@ -208,7 +221,7 @@ pub fn find_drift(certificate: &Certificate) -> Vec<Drift> {
         if present_paths.is_empty() {
             Err("none of the audited paths exist".to_string())
         } else {
-            crate::audit_paths(&present_paths, &audit_settings, &ingest_settings)
+            crate::api::audit_paths(&present_paths, &audit_settings, &ingest_settings)
                 .map_err(|e| e.to_string())
         }
     };
@@ -442,55 +455,31 @@ fn compare_runs(recorded: &crate::audit::RunResult, now: &crate::audit::RunResul
     changes
 }
 
-/// `gapcert verify`: exit 0 when nothing drifted, 1 on drift, 2 when the certificate
-/// cannot be read.
-pub fn run_verify(
-    path: &Path,
-    format: SimpleFormatArg,
-    terminal: Terminal,
-) -> Result<Outcome, AppError> {
+/// What `gapcert verify` found: every difference between a certificate and the present.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct Verification {
+    /// The certificate's path, as given.
+    pub certificate: String,
+    /// No drift at all.
+    pub verified: bool,
+    pub drift: Vec<Drift>,
+    /// Inputs and runs the certificate records.
+    #[serde(skip)]
+    pub inputs: usize,
+    #[serde(skip)]
+    pub runs: usize,
+}
+
+/// Reads the certificate at `path`, re-hashes its inputs, recomputes the audit with
+/// the recorded settings and names every difference.
+pub fn verify(path: &Path) -> Result<Verification, Error> {
     let certificate = read_certificate(path)?;
     let drift = find_drift(&certificate);
-    if !terminal.quiet {
-        match format {
-            SimpleFormatArg::Json => write_stdout(|out| {
-                serde_json::to_writer_pretty(
-                    &mut *out,
-                    &serde_json::json!({
-                        "certificate": path.display().to_string(),
-                        "verified": drift.is_empty(),
-                        "drift": drift,
-                    }),
-                )?;
-                writeln!(out)
-            })?,
-            SimpleFormatArg::Table => write_stdout(|out| {
-                if drift.is_empty() {
-                    writeln!(
-                        out,
-                        "{}: verified: {} input(s) unchanged, {} run(s) recomputed with identical results",
-                        path.display(),
-                        certificate.document.inputs.len(),
-                        certificate.document.runs.len()
-                    )
-                } else {
-                    writeln!(
-                        out,
-                        "{}: DRIFT ({} difference(s))",
-                        path.display(),
-                        drift.len()
-                    )?;
-                    for d in &drift {
-                        writeln!(out, "  {:<16} {}: {}", d.kind, d.subject, d.detail)?;
-                    }
-                    Ok(())
-                }
-            })?,
-        }
-    }
-    Ok(if drift.is_empty() {
-        Outcome::Pass
-    } else {
-        Outcome::Fail
+    Ok(Verification {
+        certificate: path.display().to_string(),
+        verified: drift.is_empty(),
+        drift,
+        inputs: certificate.document.inputs.len(),
+        runs: certificate.document.runs.len(),
     })
 }

@@ -1,9 +1,11 @@
-//! Command-line definitions (clap derive) only: raw flags as the user typed them.
-//! [`crate::app`] validates them into settings; nothing downstream reads these.
+//! Command-line definitions (clap) only: raw flags as the user typed them.
+//! `commands::settings` checks them into the library's settings; nothing downstream
+//! reads these.
 
 use std::path::PathBuf;
 
-use clap::{Args, Parser, Subcommand, ValueEnum};
+use clap::{Arg, ArgMatches, Args, FromArgMatches, Parser, Subcommand, ValueEnum};
+use gapcert::theory::growth::{FamilyParams, FAMILY_PARAMETERS};
 
 #[derive(Debug, Parser)]
 #[command(
@@ -27,8 +29,8 @@ pub struct Cli {
 pub enum Command {
     /// Audit run logs (files or folders, searched recursively).
     Audit(AuditArgs),
-    /// Audit the built-in demo logs (an invented scenario).
-    Demo(AuditOptions),
+    /// Audit the built-in demo logs (an invented scenario); exits 0 unless --gate is given.
+    Demo(AuditFlags),
     /// Sample sizes needed to certify a claim.
     #[command(subcommand)]
     Plan(PlanCommand),
@@ -46,11 +48,11 @@ pub struct AuditArgs {
     #[arg(required = true, value_name = "PATH")]
     pub paths: Vec<PathBuf>,
     #[command(flatten)]
-    pub options: AuditOptions,
+    pub options: AuditFlags,
 }
 
 #[derive(Debug, Args)]
-pub struct AuditOptions {
+pub struct AuditFlags {
     /// Confidence of every bound (δ = 1 − confidence).
     #[arg(long, default_value_t = 0.95, value_name = "C")]
     pub confidence: f64,
@@ -96,9 +98,9 @@ pub struct AuditOptions {
     /// Also write a self-contained HTML page with charts to FILE.
     #[arg(long, value_name = "FILE")]
     pub html: Option<PathBuf>,
-    /// Which verdicts fail the gate (exit code 1).
-    #[arg(long, value_enum, default_value_t = GateArg::Unproven)]
-    pub gate: GateArg,
+    /// Which verdicts fail the gate (exit code 1) [default: unproven].
+    #[arg(long, value_enum)]
+    pub gate: Option<GateArg>,
 }
 
 #[derive(Debug, Subcommand)]
@@ -153,27 +155,63 @@ pub struct GrowthArgs {
     pub format: FormatArgs,
 }
 
-#[derive(Debug, Args)]
+/// `--family` and one flag per family parameter, made from the table of families in
+/// `gapcert::theory::growth` (`vc_dim` is `--vc-dim`), so a new family's parameter is
+/// a flag without a change here.
+#[derive(Debug, Clone)]
 pub struct FamilyArgs {
-    /// Family key (see `gapcert families`).
-    #[arg(long, value_name = "F")]
     pub family: String,
-    #[arg(long)]
-    pub dim: Option<i64>,
-    #[arg(long)]
-    pub vc_dim: Option<i64>,
-    #[arg(long)]
-    pub size: Option<i64>,
-    #[arg(long)]
-    pub weights: Option<i64>,
-    #[arg(long)]
-    pub layers: Option<i64>,
-    #[arg(long)]
-    pub units: Option<i64>,
-    #[arg(long)]
-    pub leaves: Option<i64>,
-    #[arg(long)]
-    pub features: Option<i64>,
+    pub params: FamilyParams,
+}
+
+impl FromArgMatches for FamilyArgs {
+    fn from_arg_matches(matches: &ArgMatches) -> Result<Self, clap::Error> {
+        let family = matches
+            .get_one::<String>("family")
+            .cloned()
+            .ok_or_else(|| clap::Error::new(clap::error::ErrorKind::MissingRequiredArgument))?;
+        let mut params = FamilyParams::default();
+        for name in FAMILY_PARAMETERS {
+            if let Some(&value) = matches.get_one::<i64>(name) {
+                params = params.with(name, value);
+            }
+        }
+        Ok(FamilyArgs { family, params })
+    }
+
+    fn update_from_arg_matches(&mut self, matches: &ArgMatches) -> Result<(), clap::Error> {
+        *self = FamilyArgs::from_arg_matches(matches)?;
+        Ok(())
+    }
+}
+
+impl Args for FamilyArgs {
+    fn augment_args(command: clap::Command) -> clap::Command {
+        let mut command = command.arg(
+            Arg::new("family")
+                .long("family")
+                .value_name("F")
+                .required(true)
+                .help("Family key (see `gapcert families`)."),
+        );
+        for name in FAMILY_PARAMETERS {
+            // clap keeps flag names for the life of the program; these few are made once.
+            let flag: &'static str = Box::leak(name.replace('_', "-").into_boxed_str());
+            let value_name: &'static str = Box::leak(name.to_ascii_uppercase().into_boxed_str());
+            command = command.arg(
+                Arg::new(name)
+                    .long(flag)
+                    .value_name(value_name)
+                    .value_parser(clap::value_parser!(i64))
+                    .help("Family parameter (see `gapcert families`)."),
+            );
+        }
+        command
+    }
+
+    fn augment_args_for_update(command: clap::Command) -> clap::Command {
+        FamilyArgs::augment_args(command)
+    }
 }
 
 #[derive(Debug, Args)]

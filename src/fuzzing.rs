@@ -14,7 +14,7 @@ pub fn exercise(data: &[u8], format: LogFormat) {
     static HOOK: std::sync::Once = std::sync::Once::new();
     HOOK.call_once(|| {
         let _ = std::panic::take_hook();
-        crate::install_panic_hook();
+        crate::ingest::formats::install_panic_hook();
     });
     // Differential check: numeric columns typed by polars must read like text typed
     // by gapcert, wherever polars accepts every cell.

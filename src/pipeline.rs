@@ -20,10 +20,12 @@ use std::sync::mpsc;
 use rayon::prelude::*;
 
 use crate::audit::{AuditScope, AuditSettings, Auditor, RunResult, Summary};
+use crate::error::Error;
 use crate::ingest::{
-    self, Collected, FileProgress, IngestError, IngestSettings, InputFile, LogSource, OpenedLog,
-    RunInput, SkippedFile, SkippedRow,
+    self, Collected, FileProgress, IngestSettings, InputFile, LogSource, OpenedLog, SkippedFile,
+    SkippedRow,
 };
+use crate::run::RunInput;
 
 /// Batch sizes of the streaming audit.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
@@ -76,7 +78,7 @@ pub fn prepare_paths(
     settings: &IngestSettings,
     limits: StreamLimits,
     progress: FileProgress<'_>,
-) -> Result<PreparedAudit<'static>, IngestError> {
+) -> Result<PreparedAudit<'static>, Error> {
     let discovery = ingest::discover(paths)?;
     let sources: Vec<LogSource<'static>> = discovery
         .logs
@@ -96,8 +98,8 @@ pub fn prepare<'a>(
     settings: &IngestSettings,
     limits: StreamLimits,
     progress: FileProgress<'_>,
-) -> Result<PreparedAudit<'a>, IngestError> {
-    ingest::columns::check_column_map(&settings.column_map).map_err(IngestError::Usage)?;
+) -> Result<PreparedAudit<'a>, Error> {
+    ingest::columns::check_column_map(&settings.column_map).map_err(Error::Usage)?;
     let done = AtomicUsize::new(0);
     let held_runs = AtomicUsize::new(0);
     let (logs, passes): (Vec<OpenedLog<'a>>, Vec<FirstPass>) = sources

@@ -3,8 +3,8 @@
 //! Data flows one way: ingest produced [`RunInput`]s; this module turns them into
 //! [`RunResult`]s by calling `theory/`; reports only read the results.
 
+pub mod per_run;
 pub mod result;
-pub mod run;
 pub mod settings;
 
 // foldhash: these maps are looked up once or more per run.
@@ -13,12 +13,12 @@ use std::sync::Mutex;
 
 use rayon::prelude::*;
 
+pub use per_run::{audit_run, holdout_needed_for, RunContext};
 pub use result::{Finding, FindingCode, GateResult, RunResult, Summary, Verdict};
-pub use run::{audit_run, holdout_needed_for, RunContext};
 
 pub use settings::{AuditSettings, Gate, HoldoutBound};
 
-use crate::ingest::RunInput;
+use crate::run::RunInput;
 use crate::theory::growth::Family;
 use crate::theory::vc;
 
@@ -124,7 +124,7 @@ pub struct Auditor<'a> {
     settings: &'a AuditSettings,
     scope: &'a AuditScope,
     delta: f64,
-    train_needed: Mutex<HashMap<FamilyId, Option<u64>>>,
+    train_needed: Mutex<HashMap<Family, Option<u64>>>,
     holdout_needed: Mutex<HashMap<ClaimKey, Option<u64>>>,
     messages: bool,
 }
@@ -160,28 +160,27 @@ impl<'a> Auditor<'a> {
         let started = std::time::Instant::now();
         let train_needed = {
             let mut known = lock(&self.train_needed);
-            let mut missing: HashMap<FamilyId, Family> = HashMap::default();
+            let mut missing: foldhash::HashSet<Family> = foldhash::HashSet::default();
             for family in inputs.iter().filter_map(|r| r.family) {
-                let id = FamilyId::of(&family);
-                if !known.contains_key(&id) {
-                    missing.entry(id).or_insert(family);
+                if !known.contains_key(&family) {
+                    missing.insert(family);
                 }
             }
-            let solved: Vec<(FamilyId, Option<u64>)> = missing
+            let solved: Vec<(Family, Option<u64>)> = missing
                 .into_par_iter()
-                .map(|(id, family)| (id, vc::train_needed(&family, settings.tolerance, delta)))
+                .map(|family| (family, vc::train_needed(&family, settings.tolerance, delta)))
                 .collect();
             known.extend(solved);
             known.clone()
         };
-        crate::timing("  train_needed per family", started);
+        crate::timing::phase("  train_needed per family", started);
 
         // holdout_needed is a search over n (a dozen tail evaluations); sweeps may
         // repeat the same (rate, claim, δ/K), so each distinct one is solved once and
         // remembered. Looked up inside the parallel map: no serial pass over the batch.
         let holdout_needed = |r: &RunResult| -> Option<u64> {
             let claim =
-                run::claim_needing_size(r.verdict, r.holdout_error_rate, r.claim_error_rate)?;
+                per_run::claim_needing_size(r.verdict, r.holdout_error_rate, r.claim_error_rate)?;
             let key: ClaimKey = (
                 r.holdout_error_rate.to_bits(),
                 claim.to_bits(),
@@ -208,7 +207,7 @@ impl<'a> Auditor<'a> {
                     delta,
                     train_needed: input
                         .family
-                        .and_then(|f| train_needed.get(&FamilyId::of(&f)).copied().flatten()),
+                        .and_then(|f| train_needed.get(&f).copied().flatten()),
                     defer_holdout_needed: true,
                     messages: self.messages,
                 };
@@ -235,33 +234,4 @@ pub fn summarize(results: &[RunResult], gate: Gate) -> Summary {
     }
     summary.apply_gate(gate);
     summary
-}
-
-/// A hashable identity of a family and its parameters.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
-struct FamilyId(u8, u64, u64, u64);
-
-impl FamilyId {
-    fn of(family: &Family) -> FamilyId {
-        match *family {
-            Family::Ray => FamilyId(0, 0, 0, 0),
-            Family::Interval => FamilyId(1, 0, 0, 0),
-            Family::Linear { dim } => FamilyId(2, dim, 0, 0),
-            Family::Box { dim } => FamilyId(3, dim, 0, 0),
-            Family::Stump { features } => FamilyId(4, features, 0, 0),
-            Family::Finite { size } => FamilyId(5, size, 0, 0),
-            Family::Tree { leaves, features } => FamilyId(6, leaves, features, 0),
-            Family::Vc { vc_dim } => FamilyId(7, vc_dim, 0, 0),
-            Family::ReluNet {
-                weights,
-                layers,
-                units,
-            } => FamilyId(8, weights, layers, units),
-            Family::ThresholdNet {
-                weights,
-                layers,
-                units,
-            } => FamilyId(9, weights, layers, units),
-        }
-    }
 }

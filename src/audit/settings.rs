@@ -73,6 +73,6 @@ impl AuditSettings {
     /// δ = 1 − confidence before any correction, from the confidence's decimal digits
     /// (0.95 gives 0.05, not 0.050000000000000044).
     pub fn delta(&self) -> f64 {
-        crate::ingest::decimal::complement(self.confidence)
+        crate::decimal::complement(self.confidence)
     }
 }

@@ -4,23 +4,17 @@
 //! reports every cell that cannot be read, with its 1-based row.
 
 use std::collections::HashMap;
+use std::sync::LazyLock;
 
 use polars::prelude::*;
 
-use super::problem::Problem;
+use crate::error::Problem;
+use crate::theory::growth::FAMILY_PARAMETERS;
 
-/// Every canonical column gapcert reads (SPEC §3).
-pub const CANONICAL_COLUMNS: &[&str] = &[
-    "run",
-    "family",
-    "dim",
-    "vc_dim",
-    "size",
-    "weights",
-    "layers",
-    "units",
-    "leaves",
-    "features",
+/// The canonical columns before the family parameters.
+const COLUMNS_BEFORE_PARAMETERS: [&str; 2] = ["run", "family"];
+/// The canonical columns after the family parameters.
+const COLUMNS_AFTER_PARAMETERS: [&str; 13] = [
     "train_n",
     "train_error_rate",
     "train_accuracy",
@@ -35,6 +29,31 @@ pub const CANONICAL_COLUMNS: &[&str] = &[
     "claimed_error_rate",
     "logged_at",
 ];
+
+/// The number of canonical columns.
+pub const CANONICAL_COUNT: usize =
+    COLUMNS_BEFORE_PARAMETERS.len() + FAMILY_PARAMETERS.len() + COLUMNS_AFTER_PARAMETERS.len();
+
+/// Every canonical column gapcert reads (SPEC §3): the run and family, the family
+/// parameters of `theory::growth` (so a family's new parameter is a column without
+/// a change here), then the training, held-out, claim and time columns.
+pub static CANONICAL_COLUMNS: LazyLock<[&'static str; CANONICAL_COUNT]> = LazyLock::new(|| {
+    let mut columns = [""; CANONICAL_COUNT];
+    for (slot, name) in COLUMNS_BEFORE_PARAMETERS
+        .iter()
+        .chain(FAMILY_PARAMETERS.iter())
+        .chain(COLUMNS_AFTER_PARAMETERS.iter())
+        .enumerate()
+    {
+        columns[slot] = name;
+    }
+    columns
+});
+
+/// The position of the first family parameter among [`CANONICAL_COLUMNS`].
+pub const FIRST_PARAMETER_SLOT: usize = COLUMNS_BEFORE_PARAMETERS.len();
+/// The position of the first column after the family parameters.
+pub const FIRST_SLOT_AFTER_PARAMETERS: usize = FIRST_PARAMETER_SLOT + FAMILY_PARAMETERS.len();
 
 /// Which column of a file holds each canonical field: canonical name → column index.
 #[derive(Debug, Default)]
@@ -110,7 +129,7 @@ pub fn bind_names(header: &[&str], column_map: &[(String, String)]) -> ColumnBin
         .map(|name| name.trim().to_ascii_lowercase())
         .collect();
     let mut binding = ColumnBinding::default();
-    for &canonical in CANONICAL_COLUMNS {
+    for &canonical in CANONICAL_COLUMNS.iter() {
         let wanted = column_map
             .iter()
             .rev()

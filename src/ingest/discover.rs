@@ -6,7 +6,7 @@
 use std::collections::HashSet;
 use std::path::{Path, PathBuf};
 
-use super::problem::IngestError;
+use crate::error::{describe_io_error, Error};
 
 /// The log formats gapcert reads, chosen by file extension.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
@@ -52,12 +52,12 @@ pub struct Discovery {
 /// Expands the given paths into log files. Folders are walked recursively in sorted
 /// order (so results do not depend on directory order); files of other types inside
 /// folders are skipped and counted; an explicit file of unknown type is an error.
-pub fn discover(paths: &[PathBuf]) -> Result<Discovery, IngestError> {
+pub fn discover(paths: &[PathBuf]) -> Result<Discovery, Error> {
     let mut discovery = Discovery::default();
     let mut visited = HashSet::new();
     for path in paths {
         let metadata = std::fs::metadata(path).map_err(|error| {
-            IngestError::Usage(format!(
+            Error::Usage(format!(
                 "{}: cannot read this path ({}); gapcert reads local files and folders only",
                 path.display(),
                 describe_io_error(&error)
@@ -67,7 +67,7 @@ pub fn discover(paths: &[PathBuf]) -> Result<Discovery, IngestError> {
             walk(path, &mut discovery, &mut visited)?;
         } else if !metadata.is_file() {
             // A FIFO or device would block the read or never end.
-            return Err(IngestError::Usage(format!(
+            return Err(Error::Usage(format!(
                 "{}: not a regular file (a pipe or device); save the log to a file first",
                 path.display()
             )));
@@ -78,7 +78,7 @@ pub fn discover(paths: &[PathBuf]) -> Result<Discovery, IngestError> {
                     format,
                 }),
                 None => {
-                    return Err(IngestError::Usage(format!(
+                    return Err(Error::Usage(format!(
                         "{}: unknown log type; expected .csv, .tsv, .parquet, .jsonl, .ndjson, .json, .arrow, .ipc or .feather",
                         path.display()
                     )))
@@ -88,7 +88,7 @@ pub fn discover(paths: &[PathBuf]) -> Result<Discovery, IngestError> {
     }
     if discovery.logs.is_empty() {
         let listed: Vec<String> = paths.iter().map(|p| p.display().to_string()).collect();
-        return Err(IngestError::Usage(format!(
+        return Err(Error::Usage(format!(
             "no log files found in {} ({} other file(s) skipped)",
             listed.join(", "),
             discovery.skipped_files.len()
@@ -104,14 +104,14 @@ fn walk(
     folder: &Path,
     discovery: &mut Discovery,
     visited: &mut HashSet<PathBuf>,
-) -> Result<(), IngestError> {
+) -> Result<(), Error> {
     if let Ok(canonical) = std::fs::canonicalize(folder) {
         if !visited.insert(canonical) {
             return Ok(());
         }
     }
     let entries = std::fs::read_dir(folder).map_err(|error| {
-        IngestError::Usage(format!(
+        Error::Usage(format!(
             "{}: cannot list this folder ({})",
             folder.display(),
             describe_io_error(&error)
@@ -140,13 +140,4 @@ fn walk(
         }
     }
     Ok(())
-}
-
-/// A short, human description of an I/O error without the OS error number.
-pub fn describe_io_error(error: &std::io::Error) -> String {
-    match error.kind() {
-        std::io::ErrorKind::NotFound => "no such file or folder".to_string(),
-        std::io::ErrorKind::PermissionDenied => "permission denied".to_string(),
-        _ => error.to_string(),
-    }
 }

@@ -15,7 +15,7 @@ use polars::prelude::*;
 use serde_json::Value;
 
 use super::discover::LogFormat;
-use super::problem::Problem;
+use crate::error::Problem;
 
 const UTF8_BOM: &[u8] = &[0xEF, 0xBB, 0xBF];
 
@@ -523,6 +523,17 @@ fn json_kind(value: &Value) -> &'static str {
         Value::Number(_) => "number",
         Value::String(_) => "string",
     }
+}
+
+/// Installs a panic hook that stays silent while a guarded reader runs (its panic is
+/// caught and reported as an input problem) and otherwise prints the standard message.
+pub fn install_panic_hook() {
+    let default_hook = std::panic::take_hook();
+    std::panic::set_hook(Box::new(move |info| {
+        if GUARDED_READERS.load(std::sync::atomic::Ordering::SeqCst) == 0 {
+            default_hook(info);
+        }
+    }));
 }
 
 #[cfg(test)]

@@ -5,11 +5,9 @@
 //! them at once.
 
 pub mod columns;
-pub mod decimal;
 pub mod discover;
 pub mod formats;
 mod preflight;
-pub mod problem;
 pub mod rows;
 pub mod settings;
 
@@ -21,35 +19,11 @@ use serde::{Deserialize, Serialize};
 use sha2::{Digest, Sha256};
 
 pub use discover::{discover, Discovery, LogFile, LogFormat};
-pub use problem::{IngestError, Problem};
 pub use rows::SkippedRow;
 pub use settings::IngestSettings;
 
-use crate::theory::growth::Family;
-
-/// One validated run, ready for the audit.
-#[derive(Clone, Debug, PartialEq)]
-pub struct RunInput {
-    pub run: String,
-    /// `file:row`, 1-based data row.
-    pub source: String,
-    /// The family key as logged (lower case), known or not.
-    pub family_key: Option<String>,
-    /// The resolved family; `None` when absent or unknown.
-    pub family: Option<Family>,
-    pub train_n: Option<u64>,
-    pub train_error_rate: Option<f64>,
-    pub holdout_n: u64,
-    pub holdout_error_rate: f64,
-    pub holdout_misclassified: u64,
-    /// The count was derived as round(rate × n) because only a rate was logged.
-    pub misclassified_derived: bool,
-    pub holdout_set: Option<String>,
-    pub candidates: u64,
-    pub claim_error_rate: Option<f64>,
-    /// Normalised RFC 3339 (UTC).
-    pub logged_at: Option<String>,
-}
+use crate::error::{Error, Problem};
+use crate::run::RunInput;
 
 /// An input file as read: identity and hash, for the report and the certificate.
 #[derive(Clone, Debug, PartialEq, Eq, Serialize, Deserialize)]
@@ -94,10 +68,7 @@ pub enum LogSource<'a> {
 pub type FileProgress<'a> = &'a (dyn Fn(usize, usize) + Sync);
 
 /// Reads the logs found at `paths` (files or folders).
-pub fn read_paths(
-    paths: &[PathBuf],
-    settings: &IngestSettings,
-) -> Result<IngestOutcome, IngestError> {
+pub fn read_paths(paths: &[PathBuf], settings: &IngestSettings) -> Result<IngestOutcome, Error> {
     read_paths_reporting(paths, settings, &|_, _| {})
 }
 
@@ -106,7 +77,7 @@ pub fn read_paths_reporting(
     paths: &[PathBuf],
     settings: &IngestSettings,
     progress: FileProgress<'_>,
-) -> Result<IngestOutcome, IngestError> {
+) -> Result<IngestOutcome, Error> {
     let discovery = discover(paths)?;
     let sources: Vec<LogSource> = discovery
         .logs
@@ -134,7 +105,7 @@ pub fn not_log_files(discovery: &Discovery) -> Vec<SkippedFile> {
 pub fn read_sources(
     sources: &[LogSource],
     settings: &IngestSettings,
-) -> Result<IngestOutcome, IngestError> {
+) -> Result<IngestOutcome, Error> {
     read_sources_reporting(sources, settings, &|_, _| {})
 }
 
@@ -143,8 +114,8 @@ pub fn read_sources_reporting(
     sources: &[LogSource],
     settings: &IngestSettings,
     progress: FileProgress<'_>,
-) -> Result<IngestOutcome, IngestError> {
-    columns::check_column_map(&settings.column_map).map_err(IngestError::Usage)?;
+) -> Result<IngestOutcome, Error> {
+    columns::check_column_map(&settings.column_map).map_err(Error::Usage)?;
     let done = std::sync::atomic::AtomicUsize::new(0);
     let per_file: Vec<(OpenedLog, Vec<RunInput>, FileReport)> = sources
         .par_iter()
@@ -238,12 +209,12 @@ impl Collected {
     }
 
     /// Fails with every problem found, or when no run at all could be used.
-    pub fn finish(&mut self, sources: &[LogSource<'_>], runs: usize) -> Result<(), IngestError> {
+    pub fn finish(&mut self, sources: &[LogSource<'_>], runs: usize) -> Result<(), Error> {
         if !self.problems.is_empty() {
-            return Err(IngestError::Invalid(std::mem::take(&mut self.problems)));
+            return Err(Error::Input(std::mem::take(&mut self.problems)));
         }
         if runs == 0 {
-            return Err(IngestError::Invalid(vec![Problem {
+            return Err(Error::Input(vec![Problem {
                 file: sources.first().map(source_label).unwrap_or_default(),
                 row: None,
                 column: None,
@@ -274,7 +245,7 @@ impl<'a> OpenedLog<'a> {
                 Err(error) => {
                     let problem = Problem::file(
                         &label,
-                        format!("cannot read ({})", discover::describe_io_error(&error)),
+                        format!("cannot read ({})", crate::error::describe_io_error(&error)),
                     );
                     return OpenedLog {
                         label,
@@ -304,7 +275,7 @@ impl<'a> OpenedLog<'a> {
                 },
             )
         };
-        crate::timing("  parse + hash", started);
+        crate::timing::phase("  parse + hash", started);
         let rows = table.as_ref().map(|t| t.height()).unwrap_or(0);
         OpenedLog {
             input: Some(InputFile {
@@ -383,7 +354,7 @@ impl<'a> OpenedLog<'a> {
                 }
             }
         }
-        crate::timing("  validate", started);
+        crate::timing::phase("  validate", started);
         report
     }
 }

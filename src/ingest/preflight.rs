@@ -20,7 +20,7 @@ use polars_parquet_format::{
 };
 
 use super::discover::LogFormat;
-use super::problem::Problem;
+use crate::error::Problem;
 
 /// Most rows in one Parquet row group or Arrow record batch, and so in one column chunk
 /// or page. polars reserves memory for a chunk's or page's declared value count before

@@ -8,13 +8,13 @@ use rayon::prelude::*;
 
 use super::columns::{
     bind_columns, cell_kind, column_name, extract_f64, extract_i64, text_cells, text_series,
-    CellKind,
+    CellKind, FIRST_PARAMETER_SLOT, FIRST_SLOT_AFTER_PARAMETERS,
 };
-use super::decimal::{complement, percent_to_fraction};
-use super::problem::Problem;
 use super::settings::IngestSettings;
-use super::RunInput;
-use crate::theory::growth::{resolve, FamilyParams};
+use crate::decimal::{complement, percent_to_fraction};
+use crate::error::Problem;
+use crate::run::RunInput;
+use crate::theory::growth::{resolve, FamilyParams, FAMILY_PARAMETERS};
 
 /// Accuracy and error rate logged together must sum to 1 within this (SPEC §3).
 const ACCURACY_RATE_TOLERANCE: f64 = 1e-6;
@@ -228,34 +228,31 @@ pub fn table_runs(
 }
 
 /// The position of a canonical column in `CANONICAL_COLUMNS` (resolved at compile
-/// time for the literal names used here, so the per-cell lookups cost nothing).
+/// time for the literal names used here, so the per-cell lookups cost nothing; the
+/// family parameters, read in a loop, are found by their position).
 #[inline(always)]
 fn slot(canonical: &str) -> usize {
+    const AFTER: usize = FIRST_SLOT_AFTER_PARAMETERS;
     match canonical {
         "run" => 0,
         "family" => 1,
-        "dim" => 2,
-        "vc_dim" => 3,
-        "size" => 4,
-        "weights" => 5,
-        "layers" => 6,
-        "units" => 7,
-        "leaves" => 8,
-        "features" => 9,
-        "train_n" => 10,
-        "train_error_rate" => 11,
-        "train_accuracy" => 12,
-        "train_misclassified" => 13,
-        "holdout_n" => 14,
-        "holdout_error_rate" => 15,
-        "holdout_accuracy" => 16,
-        "holdout_misclassified" => 17,
-        "holdout_set" => 18,
-        "candidates" => 19,
-        "claimed_accuracy" => 20,
-        "claimed_error_rate" => 21,
-        "logged_at" => 22,
-        _ => usize::MAX,
+        "train_n" => AFTER,
+        "train_error_rate" => AFTER + 1,
+        "train_accuracy" => AFTER + 2,
+        "train_misclassified" => AFTER + 3,
+        "holdout_n" => AFTER + 4,
+        "holdout_error_rate" => AFTER + 5,
+        "holdout_accuracy" => AFTER + 6,
+        "holdout_misclassified" => AFTER + 7,
+        "holdout_set" => AFTER + 8,
+        "candidates" => AFTER + 9,
+        "claimed_accuracy" => AFTER + 10,
+        "claimed_error_rate" => AFTER + 11,
+        "logged_at" => AFTER + 12,
+        parameter => FAMILY_PARAMETERS
+            .iter()
+            .position(|p| *p == parameter)
+            .map_or(usize::MAX, |index| FIRST_PARAMETER_SLOT + index),
     }
 }
 
@@ -291,7 +288,12 @@ impl Extracted<'_> {
 
     #[inline(always)]
     fn integer(&self, canonical: &str, i: usize) -> Option<i64> {
-        match self.columns.get(slot(canonical)) {
+        self.integer_at(slot(canonical), i)
+    }
+
+    #[inline(always)]
+    fn integer_at(&self, slot: usize, i: usize) -> Option<i64> {
+        match self.columns.get(slot) {
             Some(ColumnCells::Integer(cells)) => cells[i],
             _ => None,
         }
@@ -478,20 +480,13 @@ impl Extracted<'_> {
         let family_key = self.text("family", i);
         let family = match family_key {
             Some(key) => {
-                let params = FamilyParams {
-                    dim: self.integer("dim", i),
-                    vc_dim: self.integer("vc_dim", i),
-                    size: self.integer("size", i),
-                    weights: self.integer("weights", i),
-                    layers: self.integer("layers", i),
-                    units: self.integer("units", i),
-                    leaves: self.integer("leaves", i),
-                    features: self.integer("features", i),
-                };
+                let params = FamilyParams::from_values(std::array::from_fn(|index| {
+                    self.integer_at(FIRST_PARAMETER_SLOT + index, i)
+                }));
                 match resolve(key, &params) {
                     Ok(family) => family,
                     Err(error) => {
-                        let name = self.name(canonical_param(error.parameter));
+                        let name = self.name(error.parameter);
                         found.push(Problem::cell(label, row, name, error.message));
                         None
                     }
@@ -552,20 +547,6 @@ impl Extracted<'_> {
 
 fn row_has_problem_in(found: &[Problem], column: &str) -> bool {
     found.iter().any(|p| p.column.as_deref() == Some(column))
-}
-
-fn canonical_param(parameter: &str) -> &'static str {
-    match parameter {
-        "dim" => "dim",
-        "vc_dim" => "vc_dim",
-        "size" => "size",
-        "weights" => "weights",
-        "layers" => "layers",
-        "units" => "units",
-        "leaves" => "leaves",
-        "features" => "features",
-        _ => "family",
-    }
 }
 
 struct ErrorColumns<'a> {

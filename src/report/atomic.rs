@@ -5,33 +5,29 @@
 use std::fs::{self, File};
 use std::io::{self, Write};
 use std::path::{Path, PathBuf};
-use std::sync::{Arc, Mutex, Once};
+use std::sync::{Arc, Mutex};
 use std::thread::JoinHandle;
 
-/// Temporary files being written right now, removed if SIGTERM, SIGINT or SIGHUP
-/// arrives, so an interrupted run leaves neither a partial output nor a stray
-/// temporary file. (SIGKILL and power loss cannot be caught; the destination is still
-/// never partial.)
+/// Temporary files being written right now. The library never handles signals or
+/// ends the process; a program that does (the gapcert binary, on SIGINT, SIGTERM or
+/// SIGHUP) calls [`remove_temporaries`] before it exits, so an interrupted run leaves
+/// neither a partial output nor a stray temporary file. (SIGKILL and power loss cannot
+/// be caught; the destination is still never partial.)
 static LIVE_TEMPORARIES: Mutex<Vec<PathBuf>> = Mutex::new(Vec::new());
-static CLEANUP_HANDLER: Once = Once::new();
 
-fn install_cleanup_handler() {
-    CLEANUP_HANDLER.call_once(|| {
-        use signal_hook::consts::{SIGHUP, SIGINT, SIGTERM};
-        if let Ok(mut signals) = signal_hook::iterator::Signals::new([SIGTERM, SIGINT, SIGHUP]) {
-            std::thread::spawn(move || {
-                if let Some(signal) = signals.forever().next() {
-                    if let Ok(live) = LIVE_TEMPORARIES.lock() {
-                        for path in live.iter() {
-                            let _ = fs::remove_file(path);
-                        }
-                    }
-                    eprintln!("gapcert: interrupted; no output file was written");
-                    std::process::exit(128 + signal);
-                }
-            });
+/// Removes every temporary file being written right now (see [`LIVE_TEMPORARIES`]);
+/// returns how many there were. Safe to call from any thread at any time: a write
+/// that goes on afterwards fails and leaves nothing behind.
+pub fn remove_temporaries() -> usize {
+    match LIVE_TEMPORARIES.lock() {
+        Ok(live) => {
+            for path in live.iter() {
+                let _ = fs::remove_file(path);
+            }
+            live.len()
         }
-    });
+        Err(_) => 0,
+    }
 }
 
 fn track(path: &Path, live: bool) {
@@ -322,7 +318,6 @@ where
         .to_string_lossy()
         .to_string();
     let temporary = folder.join(format!(".{file_name}.gapcert-{}.tmp", std::process::id()));
-    install_cleanup_handler();
     track(&temporary, true);
     let result = (|| {
         let mut file = OutputFile::new(File::create(&temporary)?);

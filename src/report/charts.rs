@@ -14,6 +14,7 @@ use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, Pos, VPos};
 
 use crate::audit::Verdict;
+use crate::calculators::GrowthRow;
 use crate::theory::growth::Family;
 
 /// The font family of every chart label (no web font is ever fetched).
@@ -166,7 +167,7 @@ pub fn inline_svg(svg: &str, accessible_name: &str) -> String {
         "<svg ",
         &format!(
             "<svg role=\"img\" aria-label=\"{}\" ",
-            super::html::escape_html(accessible_name)
+            super::escape::escape_html(accessible_name)
         ),
         1,
     )
@@ -845,21 +846,18 @@ pub fn theory_chart_svg(
 const GROWTH_MAX_POINTS: usize = 2000;
 
 /// Writes an SVG of ln m_H(N) and ln 2^N = N·ln 2 against N, with the break point
-/// marked by a vertical line. `rows` are (N, m_H(N), 2^N, ln m_H(N)) as in the growth
-/// table; the log scale for the counts is the natural logarithm on the y axis.
+/// marked by a vertical line, from the rows of the growth table; the log scale for the
+/// counts is the natural logarithm on the y axis.
 pub fn write_growth_svg(
     family: &Family,
-    rows: &[(u64, num_bigint::BigUint, num_bigint::BigUint, f64)],
+    rows: &[GrowthRow],
     out: &mut dyn Write,
 ) -> io::Result<()> {
     let svg = growth_svg(family, rows)?;
     out.write_all(svg.as_bytes())
 }
 
-fn growth_svg(
-    family: &Family,
-    rows: &[(u64, num_bigint::BigUint, num_bigint::BigUint, f64)],
-) -> io::Result<String> {
+fn growth_svg(family: &Family, rows: &[GrowthRow]) -> io::Result<String> {
     let width = 960;
     let height = 600;
     let step = rows.len().div_ceil(GROWTH_MAX_POINTS).max(1);
@@ -867,8 +865,9 @@ fn growth_svg(
         .iter()
         .enumerate()
         .filter(|(i, _)| i % step == 0 || *i + 1 == rows.len())
-        .map(|(_, (n, _, _, ln_growth))| {
-            (*n as f64, *ln_growth, *n as f64 * std::f64::consts::LN_2)
+        .map(|(_, row)| {
+            let n = row.n as f64;
+            (n, row.growth_ln, n * std::f64::consts::LN_2)
         })
         .filter(|(x, y, z)| x.is_finite() && y.is_finite() && z.is_finite())
         .collect();
@@ -1032,18 +1031,9 @@ mod tests {
     #[test]
     fn growth_chart_marks_the_break_point() {
         let family = Family::Linear { dim: 2 };
-        let rows: Vec<_> = (1..=8u64)
-            .map(|n| {
-                (
-                    n,
-                    family.growth_exact(n),
-                    num_bigint::BigUint::from(1u8) << n,
-                    family.ln_growth(n),
-                )
-            })
-            .collect();
+        let table = crate::calculators::growth_table(&family, 8).expect("a table");
         let mut out = Vec::new();
-        write_growth_svg(&family, &rows, &mut out).expect("drawn");
+        write_growth_svg(&family, &table.rows, &mut out).expect("drawn");
         let svg = String::from_utf8(out).expect("utf-8");
         assert!(svg.contains("break point 4"), "{svg}");
         assert!(svg.contains("ln m_H(N)"));

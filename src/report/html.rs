@@ -22,8 +22,8 @@ use std::io::{self, Write};
 
 use super::charts::{self, IntervalRow, TheoryCurve, TheoryPoint};
 use super::document::AuditDocument;
-use super::table::group_thousands;
-use super::text::{percent, sorted_worst_first, summary_line};
+use super::escape::escape_html;
+use super::text::{group_thousands, percent, sorted_worst_first, summary_line};
 use crate::audit::{Gate, GateResult, HoldoutBound, RunResult, Verdict};
 use crate::theory::growth::Family;
 use crate::theory::vc;
@@ -42,22 +42,6 @@ const SKIPPED_LIMIT: usize = 200;
 const TABLE_COLUMNS: usize = 9;
 /// Samples per theory curve.
 const CURVE_SAMPLES: usize = 96;
-
-/// Escapes text for HTML element content and quoted attribute values.
-pub fn escape_html(text: &str) -> String {
-    let mut escaped = String::with_capacity(text.len() + 8);
-    for ch in text.chars() {
-        match ch {
-            '&' => escaped.push_str("&amp;"),
-            '<' => escaped.push_str("&lt;"),
-            '>' => escaped.push_str("&gt;"),
-            '"' => escaped.push_str("&quot;"),
-            '\'' => escaped.push_str("&#39;"),
-            _ => escaped.push(ch),
-        }
-    }
-    escaped
-}
 
 const STYLE: &str = r#"
 :root { --ink: #1d1f23; --muted: #5b616b; --line: #d9dce1; --paper: #ffffff; --band: #f4f5f7;
@@ -254,7 +238,7 @@ fn summary_band(doc: &AuditDocument, page: &mut String) {
         format!(
             "{} (δ = {:.4})",
             settings.confidence,
-            crate::ingest::decimal::complement(settings.confidence)
+            crate::decimal::complement(settings.confidence)
         ),
     );
     setting(
@@ -639,7 +623,7 @@ fn run_rows(doc: &AuditDocument, run: &RunResult) -> String {
         Some(c) => format!(
             "{}<span class=\"sub\">accuracy ≥ {}</span>",
             percent(c),
-            percent(crate::ingest::decimal::complement(c))
+            percent(crate::decimal::complement(c))
         ),
         None => "—".to_string(),
     };

@@ -3,34 +3,8 @@
 use std::io::{self, Write};
 
 use super::document::AuditDocument;
-use super::table::group_thousands;
-use super::text::{percent, sorted_worst_first, summary_line};
-
-/// Escapes text for a Markdown table cell: table syntax, emphasis, links, entities and
-/// HTML are backslash-escaped (CommonMark lets any ASCII punctuation be escaped so);
-/// line breaks become spaces so a cell cannot end its row; other control characters
-/// (an ESC starting a terminal escape sequence, a bell) and bidirectional overrides,
-/// which would reorder the text around them, are shown as U+FFFD.
-pub fn escape_markdown(text: &str) -> String {
-    let mut escaped = String::with_capacity(text.len());
-    for ch in text.chars() {
-        match ch {
-            '|' | '\\' | '`' | '*' | '_' | '[' | ']' | '<' | '>' | '#' | '!' | '~' | '&' => {
-                escaped.push('\\');
-                escaped.push(ch);
-            }
-            '\n' | '\r' | '\t' | '\u{2028}' | '\u{2029}' => escaped.push(' '),
-            c if c.is_control() || is_bidi_control(c) => escaped.push('\u{FFFD}'),
-            _ => escaped.push(ch),
-        }
-    }
-    escaped
-}
-
-/// Unicode bidirectional embedding, override and isolate controls (UAX #9).
-fn is_bidi_control(ch: char) -> bool {
-    matches!(ch, '\u{202A}'..='\u{202E}' | '\u{2066}'..='\u{2069}' | '\u{200E}' | '\u{200F}' | '\u{061C}')
-}
+use super::escape::escape_markdown;
+use super::text::{group_thousands, percent, sorted_worst_first, summary_line};
 
 pub fn write_markdown(doc: &AuditDocument, out: &mut dyn Write) -> io::Result<()> {
     let s = &doc.summary;

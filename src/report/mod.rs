@@ -1,8 +1,11 @@
-//! Reports: views of one [`AuditDocument`]. Adding a format never changes the audit.
+//! Reports: views of one [`AuditDocument`], and of the calculators' and `verify`'s
+//! results. Adding a format never changes the audit.
 
 pub mod atomic;
+pub mod calculators;
 pub mod charts;
 pub mod document;
+pub mod escape;
 pub mod flat;
 pub mod html;
 pub mod markdown;
@@ -11,10 +14,13 @@ pub mod text;
 
 use std::io::{self, Write};
 
-pub use atomic::write_atomically;
+use serde::Serialize;
+
+pub use atomic::{remove_temporaries, write_atomically};
 pub use document::{AuditDocument, DocumentSettings, ToolInfo, CAUTIONS};
 
-/// The formats of `--format` for audit and demo.
+/// Every output format, for every command. Audits write all of them; the calculators
+/// and `verify` write [`OutputFormat::Table`] and [`OutputFormat::Json`].
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 pub enum OutputFormat {
     Table,
@@ -30,6 +36,24 @@ impl OutputFormat {
     pub fn is_binary(self) -> bool {
         matches!(self, OutputFormat::Parquet)
     }
+
+    /// Whether an audit in this format can be written batch by batch as the runs are
+    /// audited (one record per run, nothing that needs every run first).
+    pub fn streams(self) -> bool {
+        matches!(self, OutputFormat::Ndjson | OutputFormat::Csv)
+    }
+
+    /// The format's name as `--format` spells it.
+    pub fn name(self) -> &'static str {
+        match self {
+            OutputFormat::Table => "table",
+            OutputFormat::Json => "json",
+            OutputFormat::Ndjson => "ndjson",
+            OutputFormat::Csv => "csv",
+            OutputFormat::Parquet => "parquet",
+            OutputFormat::Markdown => "markdown",
+        }
+    }
 }
 
 /// Writes the document in `format`. `color` and `width` (the terminal's) matter only
@@ -43,13 +67,40 @@ pub fn write_report(
 ) -> io::Result<()> {
     match format {
         OutputFormat::Table => table::write_table(doc, out, color, width),
-        OutputFormat::Json => {
-            serde_json::to_writer_pretty(&mut *out, doc)?;
-            out.write_all(b"\n")
-        }
+        OutputFormat::Json => write_json(doc, out),
         OutputFormat::Ndjson => flat::write_ndjson(&doc.runs, out),
         OutputFormat::Csv => flat::write_csv(&doc.runs, out),
         OutputFormat::Parquet => flat::write_parquet(&doc.runs, out),
         OutputFormat::Markdown => markdown::write_markdown(doc, out),
     }
+}
+
+/// A result other than an audit (a calculator's, `verify`'s): JSON is the value
+/// serialised, text is [`View::write_text`].
+pub trait View: Serialize {
+    /// The human-readable form (`--format table`).
+    fn write_text(&self, out: &mut dyn Write) -> io::Result<()>;
+}
+
+/// Writes `view` in `format` (table or JSON; the per-run formats have no rows here).
+pub fn write_view<V: View>(view: &V, format: OutputFormat, out: &mut dyn Write) -> io::Result<()> {
+    match format {
+        OutputFormat::Table => view.write_text(out),
+        // Through a JSON value, whose objects list their keys in alphabetical order:
+        // the calculators' documents have always been written so.
+        OutputFormat::Json => {
+            let value = serde_json::to_value(view).map_err(io::Error::other)?;
+            write_json(&value, out)
+        }
+        other => Err(io::Error::new(
+            io::ErrorKind::Unsupported,
+            format!("--format {} is for audits only", other.name()),
+        )),
+    }
+}
+
+/// Pretty JSON with a final line break.
+fn write_json<T: Serialize + ?Sized>(value: &T, out: &mut dyn Write) -> io::Result<()> {
+    serde_json::to_writer_pretty(&mut *out, value)?;
+    out.write_all(b"\n")
 }

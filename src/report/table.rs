@@ -8,7 +8,7 @@ use comfy_table::{
 };
 
 use super::document::AuditDocument;
-use super::text::{percent, sorted_worst_first, summary_line};
+use super::text::{group_thousands, percent, printable, sorted_worst_first, summary_line};
 use crate::audit::{RunResult, Verdict};
 
 /// Column indices of the table, in display order.
@@ -234,31 +234,6 @@ fn row_cells(run: &RunResult, color: bool, method: crate::audit::HoldoutBound) -
                 .join(", "),
         ),
     ]
-}
-
-/// Text from the logs made safe for a terminal: line breaks and tabs become spaces
-/// (one line per run), other control characters (escape sequences) become U+FFFD.
-pub fn printable(text: &str) -> String {
-    text.chars()
-        .map(|c| match c {
-            '\n' | '\r' | '\t' => ' ',
-            c if c.is_control() => '\u{FFFD}',
-            c => c,
-        })
-        .collect()
-}
-
-/// 1234567 → "1,234,567".
-pub fn group_thousands(value: u64) -> String {
-    let digits = value.to_string();
-    let mut grouped = String::with_capacity(digits.len() + digits.len() / 3);
-    for (index, ch) in digits.chars().enumerate() {
-        if index > 0 && (digits.len() - index) % 3 == 0 {
-            grouped.push(',');
-        }
-        grouped.push(ch);
-    }
-    grouped
 }
 
 #[cfg(test)]

@@ -62,3 +62,28 @@ pub fn summary_line(doc: &AuditDocument) -> String {
     }
     line
 }
+
+/// Text from the logs made safe for a terminal: line breaks and tabs become spaces
+/// (one line per run), other control characters (escape sequences) become U+FFFD.
+pub fn printable(text: &str) -> String {
+    text.chars()
+        .map(|c| match c {
+            '\n' | '\r' | '\t' => ' ',
+            c if c.is_control() => '\u{FFFD}',
+            c => c,
+        })
+        .collect()
+}
+
+/// 1234567 → "1,234,567".
+pub fn group_thousands(value: u64) -> String {
+    let digits = value.to_string();
+    let mut grouped = String::with_capacity(digits.len() + digits.len() / 3);
+    for (index, ch) in digits.chars().enumerate() {
+        if index > 0 && (digits.len() - index) % 3 == 0 {
+            grouped.push(',');
+        }
+        grouped.push(ch);
+    }
+    grouped
+}

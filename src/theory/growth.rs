@@ -26,7 +26,12 @@ use super::beta::ln_incomplete_beta;
 use super::special::ln_choose;
 
 /// A model family with its parameters (all ≥ 1; nets have units > 2).
-#[derive(Clone, Copy, Debug, PartialEq)]
+///
+/// This file is the one place a family is defined: its key and parameters
+/// ([`resolve`], [`FAMILY_PARAMETERS`]), its growth function, VC dimension and break
+/// point (the methods below) and its row of `gapcert families` ([`catalogue`]). Log
+/// columns, command-line flags and the audit's caches are derived from these.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
 pub enum Family {
     Ray,
     Interval,
@@ -61,17 +66,67 @@ pub enum Family {
     },
 }
 
-/// Raw parameter values as read from a log row or CLI flags (None = absent).
+/// Every parameter a family may take, in the order log columns and command-line
+/// flags list them (`--vc-dim` for `vc_dim`). A new family's new parameter is added
+/// here and nowhere else.
+pub const FAMILY_PARAMETERS: [&str; 8] = [
+    "dim", "vc_dim", "size", "weights", "layers", "units", "leaves", "features",
+];
+
+/// Raw parameter values as read from a log row or CLI flags (None = absent), in the
+/// order of [`FAMILY_PARAMETERS`].
 #[derive(Clone, Copy, Debug, Default, PartialEq)]
 pub struct FamilyParams {
-    pub dim: Option<i64>,
-    pub vc_dim: Option<i64>,
-    pub size: Option<i64>,
-    pub weights: Option<i64>,
-    pub layers: Option<i64>,
-    pub units: Option<i64>,
-    pub leaves: Option<i64>,
-    pub features: Option<i64>,
+    values: [Option<i64>; FAMILY_PARAMETERS.len()],
+}
+
+impl FamilyParams {
+    /// The parameters from values in the order of [`FAMILY_PARAMETERS`].
+    pub fn from_values(values: [Option<i64>; FAMILY_PARAMETERS.len()]) -> FamilyParams {
+        FamilyParams { values }
+    }
+
+    /// The value of parameter `name` (None when absent or not a parameter).
+    pub fn get(&self, name: &str) -> Option<i64> {
+        let index = FAMILY_PARAMETERS.iter().position(|p| *p == name)?;
+        self.values[index]
+    }
+
+    /// These parameters with `name` set to `value`; a name that is not in
+    /// [`FAMILY_PARAMETERS`] changes nothing.
+    pub fn with(mut self, name: &str, value: i64) -> FamilyParams {
+        if let Some(index) = FAMILY_PARAMETERS.iter().position(|p| *p == name) {
+            self.values[index] = Some(value);
+        }
+        self
+    }
+}
+
+/// The position of a parameter in [`FAMILY_PARAMETERS`], found at compile time (a
+/// name that is not there does not compile).
+macro_rules! parameter {
+    ($name:literal) => {
+        const { parameter_index($name) }
+    };
+}
+
+const fn parameter_index(name: &str) -> usize {
+    let mut index = 0;
+    while index < FAMILY_PARAMETERS.len() {
+        let candidate = FAMILY_PARAMETERS[index].as_bytes();
+        let wanted = name.as_bytes();
+        if candidate.len() == wanted.len() {
+            let mut at = 0;
+            while at < wanted.len() && candidate[at] == wanted[at] {
+                at += 1;
+            }
+            if at == wanted.len() {
+                return index;
+            }
+        }
+        index += 1;
+    }
+    panic!("not a family parameter")
 }
 
 /// A required family parameter that is missing or out of range.
@@ -99,23 +154,23 @@ pub fn resolve(key: &str, params: &FamilyParams) -> Result<Option<Family>, Famil
         "ray" => Family::Ray,
         "interval" => Family::Interval,
         "linear" => Family::Linear {
-            dim: positive("linear", "dim", params.dim)?,
+            dim: positive("linear", parameter!("dim"), params)?,
         },
         "box" => Family::Box {
-            dim: positive("box", "dim", params.dim)?,
+            dim: positive("box", parameter!("dim"), params)?,
         },
         "stump" => Family::Stump {
-            features: positive("stump", "features", params.features)?,
+            features: positive("stump", parameter!("features"), params)?,
         },
         "finite" => Family::Finite {
-            size: positive("finite", "size", params.size)?,
+            size: positive("finite", parameter!("size"), params)?,
         },
         "tree" => Family::Tree {
-            leaves: positive("tree", "leaves", params.leaves)?,
-            features: positive("tree", "features", params.features)?,
+            leaves: positive("tree", parameter!("leaves"), params)?,
+            features: positive("tree", parameter!("features"), params)?,
         },
         "vc" => Family::Vc {
-            vc_dim: positive("vc", "vc_dim", params.vc_dim)?,
+            vc_dim: positive("vc", parameter!("vc_dim"), params)?,
         },
         "relu_net" | "threshold_net" => {
             let name = if key == "relu_net" {
@@ -123,9 +178,9 @@ pub fn resolve(key: &str, params: &FamilyParams) -> Result<Option<Family>, Famil
             } else {
                 "threshold_net"
             };
-            let weights = positive(name, "weights", params.weights)?;
-            let layers = positive(name, "layers", params.layers)?;
-            let units = positive(name, "units", params.units)?;
+            let weights = positive(name, parameter!("weights"), params)?;
+            let layers = positive(name, parameter!("layers"), params)?;
+            let units = positive(name, parameter!("units"), params)?;
             if units <= 2 {
                 return Err(FamilyError {
                     parameter: "units",
@@ -154,8 +209,10 @@ pub fn resolve(key: &str, params: &FamilyParams) -> Result<Option<Family>, Famil
     Ok(Some(family))
 }
 
-fn positive(family: &str, parameter: &'static str, value: Option<i64>) -> Result<u64, FamilyError> {
-    match value {
+/// The parameter at `index` of [`FAMILY_PARAMETERS`] as a count ≥ 1.
+fn positive(family: &str, index: usize, params: &FamilyParams) -> Result<u64, FamilyError> {
+    let parameter = FAMILY_PARAMETERS[index];
+    match params.values[index] {
         Some(v) if v >= 1 => Ok(v as u64),
         Some(v) => Err(FamilyError {
             parameter,

@@ -4,8 +4,6 @@
 //!
 //! Every test writes its inputs into a temporary folder; nothing here touches fixtures.
 
-mod common;
-
 use std::collections::{BTreeMap, BTreeSet};
 use std::fs;
 use std::io::Write;
@@ -13,12 +11,14 @@ use std::path::{Path, PathBuf};
 use std::process::{Command, Stdio};
 use std::time::{Duration, Instant};
 
-use common::{gapcert_deadline, parse_csv_text, Finished};
+use crate::common::{gapcert_deadline, parse_csv_text, Finished};
 use gapcert::audit::{audit_run, AuditSettings, HoldoutBound, RunContext, RunResult, Verdict};
-use gapcert::ingest::{IngestSettings, LogFormat, LogSource, RunInput};
+use gapcert::ingest::{IngestSettings, LogFormat, LogSource};
+use gapcert::report::escape::escape_markdown;
 use gapcert::report::flat::{write_csv, FLAT_COLUMNS};
-use gapcert::report::markdown::{escape_markdown, write_markdown};
+use gapcert::report::markdown::write_markdown;
 use gapcert::report::AuditDocument;
+use gapcert::run::RunInput;
 use serde_json::Value;
 
 const DEADLINE: Duration = Duration::from_secs(60);

@@ -3,8 +3,7 @@
 //! once crashed a fuzz target; the file name's first word is the target). Passing
 //! means: no panic, whatever the bytes.
 
-mod common;
-
+use crate::common;
 use gapcert::ingest::LogFormat;
 
 fn format_of(name: &str) -> Option<LogFormat> {

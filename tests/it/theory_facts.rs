@@ -59,15 +59,9 @@ fn rays_grow_linearly() {
 /// m_H(4) = 14 (break point 4), and Cover's formula gives m_H(5) = 22.
 #[test]
 fn plane_perceptron_common_practice_values() {
-    let plane = resolve(
-        "linear",
-        &FamilyParams {
-            dim: Some(2),
-            ..FamilyParams::default()
-        },
-    )
-    .unwrap()
-    .unwrap();
+    let plane = resolve("linear", &FamilyParams::default().with("dim", 2))
+        .unwrap()
+        .unwrap();
     assert_eq!(plane.growth_exact(3), big(8));
     assert_eq!(plane.growth_exact(4), big(14));
     assert_eq!(plane.growth_exact(5), big(22));
@@ -196,17 +190,9 @@ fn resolve_validates_parameters() {
     assert_eq!(resolve("no_such_family", &none), Ok(None));
     assert_eq!(resolve("RAY", &none), Ok(Some(Family::Ray)));
     assert_eq!(resolve("linear", &none).unwrap_err().parameter, "dim");
-    let zero = FamilyParams {
-        dim: Some(0),
-        ..none
-    };
+    let zero = none.with("dim", 0);
     assert_eq!(resolve("box", &zero).unwrap_err().parameter, "dim");
-    let net = FamilyParams {
-        weights: Some(100),
-        layers: Some(2),
-        units: Some(2),
-        ..none
-    };
+    let net = none.with("weights", 100).with("layers", 2).with("units", 2);
     assert_eq!(resolve("relu_net", &net).unwrap_err().parameter, "units");
 }
 

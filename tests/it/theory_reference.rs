@@ -8,7 +8,7 @@
 
 use std::path::PathBuf;
 
-use gapcert::theory::growth::{resolve, Family, FamilyParams};
+use gapcert::theory::growth::{resolve, Family, FamilyParams, FAMILY_PARAMETERS};
 use gapcert::theory::{binomial, sample_size, vc};
 
 fn fixture(name: &str) -> Vec<Vec<String>> {
@@ -36,17 +36,11 @@ fn family(key: &str, params: &str) -> Family {
     for pair in params.split_whitespace() {
         let (name, value) = pair.split_once('=').expect("name=value");
         let value: i64 = value.parse().expect("integer parameter");
-        match name {
-            "dim" => p.dim = Some(value),
-            "vc_dim" => p.vc_dim = Some(value),
-            "size" => p.size = Some(value),
-            "weights" => p.weights = Some(value),
-            "layers" => p.layers = Some(value),
-            "units" => p.units = Some(value),
-            "leaves" => p.leaves = Some(value),
-            "features" => p.features = Some(value),
-            other => panic!("unknown parameter {other}"),
-        }
+        assert!(
+            FAMILY_PARAMETERS.contains(&name),
+            "unknown parameter {name}"
+        );
+        p = p.with(name, value);
     }
     resolve(key, &p)
         .expect("valid parameters")

@@ -7,7 +7,8 @@ use std::time::{Duration, Instant};
 
 use gapcert::audit::{AuditSettings, Finding, FindingCode};
 use gapcert::ingest::{IngestSettings, LogFormat, LogSource};
-use gapcert::report::html::{escape_html, write_html};
+use gapcert::report::escape::escape_html;
+use gapcert::report::html::write_html;
 use gapcert::report::AuditDocument;
 
 const SCRIPT_NAME: &str = "<script>alert(1)</script>";

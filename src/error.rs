@@ -1,4 +1,11 @@
-//! Problems found while reading logs, each located by file, row and column.
+//! The library's one error type, and the input problems it carries.
+//!
+//! Every way a request can fail falls in one of three kinds: the request itself is
+//! wrong ([`Error::Usage`]), the logs or claims files have problems
+//! ([`Error::Input`], every problem found, each located by file, row and column), or
+//! reading or writing a file failed ([`Error::Io`]). The library never exits the
+//! process; the binary maps every kind to exit code 2 (`src/main.rs`), the Python
+//! package to `ValueError`, `gapcert.InputError` and `OSError`.
 
 use std::fmt;
 
@@ -50,20 +57,34 @@ impl fmt::Display for Problem {
     }
 }
 
-/// Why ingest stopped without producing runs.
+/// Why a request could not be completed.
 #[derive(Debug)]
-pub enum IngestError {
-    /// The command line itself is wrong (unknown path type, bad `--map`).
+pub enum Error {
+    /// The request itself is wrong: an option out of range, options that conflict, a
+    /// path that cannot be read as a log.
     Usage(String),
-    /// The logs have problems; every one found is listed.
-    Invalid(Vec<Problem>),
+    /// The logs (or claims files) have problems; every one found is listed.
+    Input(Vec<Problem>),
+    /// Reading or writing a file failed; the message names the file.
+    Io(String),
 }
 
-impl fmt::Display for IngestError {
+impl Error {
+    /// The kind as one word, for programs that embed the library.
+    pub fn kind(&self) -> &'static str {
+        match self {
+            Error::Usage(_) => "usage",
+            Error::Input(_) => "input",
+            Error::Io(_) => "io",
+        }
+    }
+}
+
+impl fmt::Display for Error {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         match self {
-            IngestError::Usage(message) => write!(f, "{message}"),
-            IngestError::Invalid(problems) => {
+            Error::Usage(message) | Error::Io(message) => write!(f, "{message}"),
+            Error::Input(problems) => {
                 for problem in problems {
                     writeln!(f, "{problem}")?;
                 }
@@ -77,4 +98,13 @@ impl fmt::Display for IngestError {
     }
 }
 
-impl std::error::Error for IngestError {}
+impl std::error::Error for Error {}
+
+/// A short, human description of an I/O error without the OS error number.
+pub fn describe_io_error(error: &std::io::Error) -> String {
+    match error.kind() {
+        std::io::ErrorKind::NotFound => "no such file or folder".to_string(),
+        std::io::ErrorKind::PermissionDenied => "permission denied".to_string(),
+        _ => error.to_string(),
+    }
+}

@@ -2,7 +2,7 @@
 
 use super::result::{Finding, FindingCode, RunResult, Verdict};
 use super::settings::{AuditSettings, HoldoutBound};
-use crate::ingest::RunInput;
+use crate::run::RunInput;
 use crate::theory::{binomial, hoeffding, sample_size, vc};
 
 /// What the audit knows about a run beyond its own row.

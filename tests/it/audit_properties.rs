@@ -15,7 +15,8 @@
 use std::collections::HashMap;
 
 use gapcert::audit::{audit_runs, AuditSettings, HoldoutBound, RunResult, Verdict};
-use gapcert::ingest::{IngestSettings, LogFormat, LogSource, RunInput};
+use gapcert::ingest::{IngestSettings, LogFormat, LogSource};
+use gapcert::run::RunInput;
 use gapcert::theory::growth::Family;
 use proptest::prelude::*;
 

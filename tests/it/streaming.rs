@@ -4,8 +4,7 @@
 //! single-threaded one. Results are compared as serialised JSON, whose floats round
 //! trip exactly (serde_json `float_roundtrip`), so equality here is bit equality.
 
-mod common;
-
+use crate::common;
 use std::path::{Path, PathBuf};
 
 use gapcert::audit::{AuditSettings, RunResult, Summary};

@@ -1,0 +1,222 @@
+//! `gapcert audit` and `gapcert demo`: read, audit, report, gate.
+
+use std::io::{self, IsTerminal, Write};
+use std::path::{Path, PathBuf};
+
+use gapcert::audit::{GateResult, RunResult};
+use gapcert::ingest::{SkippedFile, SkippedRow};
+use gapcert::pipeline::StreamLimits;
+use gapcert::report::text::printable;
+use gapcert::report::{self, AuditDocument, OutputFormat};
+use gapcert::Error;
+
+use super::outcome::Outcome;
+use super::settings::{resolve_audit, AuditRequest};
+use super::terminal::{
+    check_destination, stdout_terminal, write_file, write_stdout, Progress, Terminal,
+};
+use crate::cli::AuditFlags;
+
+/// Where an audit's logs come from.
+pub enum SourceSpec {
+    Paths(Vec<PathBuf>),
+    /// The demo's built-in logs: the gate decides the exit code only when `--gate` is
+    /// given explicitly.
+    Demo,
+}
+
+/// Reads and audits the logs, writes every output asked for, and applies the gate.
+pub fn run(spec: &SourceSpec, flags: &AuditFlags, terminal: Terminal) -> Result<Outcome, Error> {
+    let request = resolve_audit(flags)?;
+    // Check every destination before writing any, so a failing command leaves no
+    // output file behind.
+    for path in [&flags.output, &flags.certificate, &flags.html]
+        .into_iter()
+        .flatten()
+    {
+        check_destination(path)?;
+    }
+    if request.format.is_binary() && flags.output.is_none() && io::stdout().is_terminal() {
+        return Err(Error::Usage(
+            "--format parquet writes binary data: add --output FILE (or redirect standard output)"
+                .into(),
+        ));
+    }
+    let gate = if request.format.streams() && flags.html.is_none() && flags.certificate.is_none() {
+        run_streaming(spec, flags, &request, terminal)?
+    } else {
+        run_in_memory(spec, flags, &request, terminal)?
+    };
+    Ok(outcome(gate, spec, &request))
+}
+
+/// The exit code's outcome: the gate decides, except for a demo without `--gate`.
+fn outcome(gate: GateResult, spec: &SourceSpec, request: &AuditRequest) -> Outcome {
+    match (spec, gate) {
+        (SourceSpec::Demo, _) if !request.gate_given => Outcome::Pass,
+        (_, GateResult::Pass) => Outcome::Pass,
+        (_, GateResult::Fail) => Outcome::Fail,
+    }
+}
+
+/// An audit held in memory as one document (every format but streamed JSON lines
+/// and CSV).
+fn run_in_memory(
+    spec: &SourceSpec,
+    flags: &AuditFlags,
+    request: &AuditRequest,
+    terminal: Terminal,
+) -> Result<GateResult, Error> {
+    let progress = Progress::start(terminal, "reading logs");
+    let result = match spec {
+        SourceSpec::Paths(paths) => gapcert::audit_paths_reporting(
+            paths,
+            &request.audit,
+            &request.ingest,
+            &|done, total| progress.file_read(done, total),
+        ),
+        SourceSpec::Demo => {
+            gapcert::audit_sources(&gapcert::demo::sources(), &request.audit, &request.ingest)
+        }
+    };
+    progress.finish();
+    let doc = result?;
+    list_skipped(terminal, &doc.skipped_files, &doc.skipped_rows);
+
+    if let Some(path) = &flags.certificate {
+        let paths: Vec<String> = match spec {
+            SourceSpec::Paths(paths) => paths.iter().map(|p| p.display().to_string()).collect(),
+            SourceSpec::Demo => Vec::new(),
+        };
+        gapcert::certificate::write_certificate(path, &doc, &paths)?;
+    }
+    if let Some(path) = &flags.html {
+        write_file(path, |out| report::html::write_html(&doc, out))?;
+    }
+    let started = std::time::Instant::now();
+    emit_report(&doc, request.format, flags.output.as_deref(), terminal)?;
+    gapcert::timing::phase("write", started);
+    Ok(doc.summary.gate)
+}
+
+fn emit_report(
+    doc: &AuditDocument,
+    format: OutputFormat,
+    output: Option<&Path>,
+    terminal: Terminal,
+) -> Result<(), Error> {
+    match output {
+        Some(path) => write_file(path, |out| {
+            report::write_report(doc, format, out, false, None)
+        }),
+        None if terminal.quiet => Ok(()),
+        None => {
+            let (color, width) = stdout_terminal();
+            write_stdout(|out| report::write_report(doc, format, out, color, width))
+        }
+    }
+}
+
+/// With `-v`, names every skipped file and row on stderr.
+fn list_skipped(terminal: Terminal, files: &[SkippedFile], rows: &[SkippedRow]) {
+    if !terminal.verbose || terminal.quiet {
+        return;
+    }
+    for skipped in files {
+        eprintln!(
+            "skipped {}: {}",
+            printable(&skipped.path),
+            printable(&skipped.reason)
+        );
+    }
+    for skipped in rows {
+        eprintln!(
+            "skipped {}: {}",
+            printable(&skipped.source),
+            printable(&skipped.reasons.join("; "))
+        );
+    }
+}
+
+/// An audit whose only output is JSON lines or CSV: streamed batch by batch
+/// ([`gapcert::pipeline`]), so memory stays bounded and the output is the same as the
+/// in-memory audit's.
+fn run_streaming(
+    spec: &SourceSpec,
+    flags: &AuditFlags,
+    request: &AuditRequest,
+    terminal: Terminal,
+) -> Result<GateResult, Error> {
+    let format = request.format;
+    let limits = StreamLimits::default();
+    let progress = Progress::start(terminal, "reading logs");
+    let report_file = |done, total| progress.file_read(done, total);
+    let demo_sources;
+    let prepared = match spec {
+        SourceSpec::Paths(paths) => {
+            gapcert::pipeline::prepare_paths(paths, &request.ingest, limits, &report_file)
+        }
+        SourceSpec::Demo => {
+            demo_sources = gapcert::demo::sources();
+            gapcert::pipeline::prepare(&demo_sources, &request.ingest, limits, &report_file)
+        }
+    };
+    let prepared = match prepared {
+        Ok(prepared) => prepared,
+        Err(error) => {
+            progress.finish();
+            return Err(error);
+        }
+    };
+    list_skipped(terminal, &prepared.skipped_files, &prepared.skipped_rows);
+    progress.auditing(prepared.runs());
+    let started = std::time::Instant::now();
+    let mut summary = None;
+    let stream = |out: &mut dyn Write| -> io::Result<()> {
+        if format == OutputFormat::Csv {
+            report::flat::write_csv_header(out)?;
+        }
+        // Lines are formatted on a stage of their own, so this thread only copies
+        // bytes out while the next batches are audited and formatted.
+        let format_batch = |runs: Vec<RunResult>| {
+            let lines = match format {
+                OutputFormat::Csv => report::flat::format_csv_rows(&runs),
+                _ => report::flat::format_ndjson(&runs),
+            };
+            (runs.len(), lines)
+        };
+        // A reader that stops early (`| head`) ends the output, not the audit: the
+        // gate still needs every run.
+        let mut closed = false;
+        let mut sink = |(runs, buffers): (usize, Vec<io::Result<Vec<u8>>>)| -> io::Result<()> {
+            progress.audited(runs);
+            if closed {
+                return Ok(());
+            }
+            let written = buffers
+                .into_iter()
+                .try_for_each(|buffer| out.write_all(&buffer?));
+            match written {
+                Err(error) if error.kind() == io::ErrorKind::BrokenPipe => {
+                    closed = true;
+                    Ok(())
+                }
+                other => other,
+            }
+        };
+        summary = Some(prepared.audit_through(&request.audit, false, &format_batch, &mut sink)?);
+        Ok(())
+    };
+    let written = match &flags.output {
+        Some(path) => write_file(path, stream),
+        None if terminal.quiet => {
+            stream(&mut io::sink()).map_err(|error| Error::Io(error.to_string()))
+        }
+        None => write_stdout(stream),
+    };
+    progress.finish();
+    written?;
+    gapcert::timing::phase("audit + write", started);
+    // Without a summary the audit did not finish: that cannot pass.
+    Ok(summary.map_or(GateResult::Fail, |s| s.gate))
+}

@@ -1,0 +1,146 @@
+//! The calculators' outputs (`plan`, `growth`, `families`) and `verify`'s, as text;
+//! their JSON is the result types serialised ([`super::write_view`]).
+
+use std::io::{self, Write};
+
+use super::text::group_thousands;
+use super::View;
+use crate::calculators::{FamilyList, GrowthTable, HoldoutPlan, TrainPlan};
+use crate::certificate::Verification;
+
+impl View for HoldoutPlan {
+    fn write_text(&self, out: &mut dyn Write) -> io::Result<()> {
+        let show = |n: Option<u64>| {
+            n.map(group_thousands)
+                .unwrap_or_else(|| "never (the error rate is not below the claim)".into())
+        };
+        writeln!(
+            out,
+            "To certify accuracy ≥ {} (error ≤ {}) at an observed error rate of {} with confidence {} and {} candidate(s) compared (δ/K = {:.3e}):",
+            self.claim_accuracy,
+            self.claim_error_rate,
+            self.error_rate,
+            self.confidence,
+            self.candidates,
+            self.delta_per_run
+        )?;
+        writeln!(
+            out,
+            "  exact binomial bound: {} held-out examples",
+            show(self.holdout_needed_binomial)
+        )?;
+        writeln!(
+            out,
+            "  Hoeffding bound:      {} held-out examples",
+            show(self.holdout_needed_hoeffding)
+        )
+    }
+}
+
+impl View for TrainPlan {
+    fn write_text(&self, out: &mut dyn Write) -> io::Result<()> {
+        match (self.train_needed, self.vc_allowance_at_train_needed) {
+            (Some(n), Some(allowance)) => writeln!(
+                out,
+                "{}: {} training examples make the VC allowance {:.6} ≤ {} at confidence {} (d_VC {}).",
+                self.family,
+                group_thousands(n),
+                allowance,
+                self.tolerance,
+                self.confidence,
+                self.vc_dim
+                    .map(|d| d.to_string())
+                    .unwrap_or_else(|| "not defined".into())
+            ),
+            _ => writeln!(
+                out,
+                "{}: no training size up to 2^63 makes the VC allowance ≤ {}.",
+                self.family, self.tolerance
+            ),
+        }
+    }
+}
+
+impl View for GrowthTable {
+    fn write_text(&self, out: &mut dyn Write) -> io::Result<()> {
+        let mut table = comfy_table::Table::new();
+        table
+            .load_preset(comfy_table::presets::UTF8_FULL_CONDENSED)
+            .set_header(vec!["N", "m_H(N)", "2^N", "ln m_H(N)", ""]);
+        for row in &self.rows {
+            let mark = match self.break_point {
+                Some(k) if k == row.n => "← break point",
+                _ => "",
+            };
+            table.add_row(vec![
+                row.n.to_string(),
+                row.growth.0.to_string(),
+                row.two_to_n.0.to_string(),
+                format!("{:.6}", row.growth_ln),
+                mark.to_string(),
+            ]);
+        }
+        writeln!(out, "{table}")?;
+        writeln!(
+            out,
+            "family {}: VC dimension {}, break point {}",
+            self.family,
+            self.vc_dim
+                .map(|d| d.to_string())
+                .unwrap_or_else(|| "not defined".into()),
+            self.break_point
+                .map(|k| k.to_string())
+                .unwrap_or_else(|| "none".into())
+        )
+    }
+}
+
+impl View for FamilyList {
+    fn write_text(&self, out: &mut dyn Write) -> io::Result<()> {
+        let mut table = comfy_table::Table::new();
+        table
+            .load_preset(comfy_table::presets::UTF8_FULL_CONDENSED)
+            .set_content_arrangement(comfy_table::ContentArrangement::Dynamic)
+            .set_header(vec![
+                "family",
+                "parameters",
+                "m_H(N)",
+                "VC dimension",
+                "source",
+            ]);
+        for f in &self.families {
+            table.add_row(vec![
+                f.key.to_string(),
+                f.parameters.join(", "),
+                f.growth.to_string(),
+                f.vc_dim.to_string(),
+                f.source.to_string(),
+            ]);
+        }
+        writeln!(out, "{table}")?;
+        writeln!(out, "Any other family key: no growth bound (finding theory_unavailable); the held-out bounds are still computed.")
+    }
+}
+
+impl View for Verification {
+    fn write_text(&self, out: &mut dyn Write) -> io::Result<()> {
+        if self.drift.is_empty() {
+            writeln!(
+                out,
+                "{}: verified: {} input(s) unchanged, {} run(s) recomputed with identical results",
+                self.certificate, self.inputs, self.runs
+            )
+        } else {
+            writeln!(
+                out,
+                "{}: DRIFT ({} difference(s))",
+                self.certificate,
+                self.drift.len()
+            )?;
+            for d in &self.drift {
+                writeln!(out, "  {:<16} {}: {}", d.kind, d.subject, d.detail)?;
+            }
+            Ok(())
+        }
+    }
+}

@@ -1,0 +1,31 @@
+//! The validated run: what ingest produces and the audit consumes.
+//!
+//! A run built in memory by a caller (the Python package, a test) goes straight to
+//! the audit ([`crate::audit::audit_runs`]); nothing here depends on how logs are
+//! read.
+
+use crate::theory::growth::Family;
+
+/// One validated run, ready for the audit.
+#[derive(Clone, Debug, PartialEq)]
+pub struct RunInput {
+    pub run: String,
+    /// `file:row`, 1-based data row.
+    pub source: String,
+    /// The family key as logged (lower case), known or not.
+    pub family_key: Option<String>,
+    /// The resolved family; `None` when absent or unknown.
+    pub family: Option<Family>,
+    pub train_n: Option<u64>,
+    pub train_error_rate: Option<f64>,
+    pub holdout_n: u64,
+    pub holdout_error_rate: f64,
+    pub holdout_misclassified: u64,
+    /// The count was derived as round(rate × n) because only a rate was logged.
+    pub misclassified_derived: bool,
+    pub holdout_set: Option<String>,
+    pub candidates: u64,
+    pub claim_error_rate: Option<f64>,
+    /// Normalised RFC 3339 (UTC).
+    pub logged_at: Option<String>,
+}
