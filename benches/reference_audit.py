@@ -285,7 +285,7 @@ def holdout_needed_binomial(rate: float, claim: float, alpha: float):
 
     # (scipy's beta.ppf returns NaN once the parameters pass ~1e16, so sizes that
     # large, e.g. a claim 4e-9 above the rate, are beyond this reference; gapcert
-    # still answers them, see tests/theory_properties.rs.)
+    # still answers them, see tests/it/theory_properties.rs.)
     n_stretch_end = bisect_envelope(rate)
     if rate * (n_stretch_end - n_lo) > 65536 or n_stretch_end > 2 ** 53:
         return bisect_envelope(1.0)

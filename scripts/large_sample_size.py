@@ -1,5 +1,5 @@
 #!/usr/bin/env python3
-"""Exact reference for one large held-out sample size (tests/theory_facts.rs).
+"""Exact reference for one large held-out sample size (tests/it/theory_facts.rs).
 
 holdout_needed (SPEC §4, binomial): the smallest n with U(k(n), n, alpha) <= c, where
 k(n) = ceil(rate * n) and U is the Clopper-Pearson upper bound; U <= c exactly when

@@ -1,6 +1,6 @@
 #!/usr/bin/env python3
 """Regenerate fixtures/reference/*.csv: high-precision reference values for
-tests/theory_reference.rs.
+tests/it/theory_reference.rs.
 
 Every value is computed here from its definition with mpmath at 50 significant
 digits (mp.dps = 50), independently of gapcert's algorithms:

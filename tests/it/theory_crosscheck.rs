@@ -3,7 +3,7 @@
 //! crates.io), whose `beta_reg` is the modified-Lentz continued fraction of Press et
 //! al., "Numerical Recipes", §6.4, with its own Lanczos `ln Γ`.
 //!
-//! The fixed reference tables (scipy and mpmath values in tests/theory_reference.rs)
+//! The fixed reference tables (scipy and mpmath values in tests/it/theory_reference.rs)
 //! pin chosen points; these properties sweep the parameter space, including the
 //! borders between the methods gapcert switches among (series, continued fraction,
 //! finite sum, asymptotic expansion at min(a, b) > 100).

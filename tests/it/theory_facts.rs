@@ -296,3 +296,66 @@ fn large_sample_size_matches_exact_rational_reference() {
     assert!(upper_bound(15680528, 69735213, alpha) <= claim);
     assert!(upper_bound(15680527, 69735208, alpha) > claim);
 }
+
+/// The table of families agrees with itself: `gapcert families` lists exactly the
+/// keys `resolve` knows, each with the parameters `resolve` asks for, all of them in
+/// `FAMILY_PARAMETERS` (from which the log columns and the flags are made).
+#[test]
+fn the_catalogue_resolve_and_the_parameter_list_agree() {
+    use gapcert::theory::growth::{catalogue, FAMILY_PARAMETERS};
+    let mut all = FamilyParams::default();
+    for name in FAMILY_PARAMETERS {
+        all = all.with(name, 7);
+    }
+    for info in catalogue() {
+        assert!(
+            resolve(info.key, &all).unwrap().is_some(),
+            "{} is listed but unknown",
+            info.key
+        );
+        for &parameter in info.parameters {
+            assert!(FAMILY_PARAMETERS.contains(&parameter), "{parameter}");
+            // Leaving a listed parameter out is an error naming it.
+            let mut without = FamilyParams::default();
+            for name in FAMILY_PARAMETERS.iter().filter(|&&n| n != parameter) {
+                without = without.with(name, 7);
+            }
+            assert_eq!(
+                resolve(info.key, &without).unwrap_err().parameter,
+                parameter,
+                "{}",
+                info.key
+            );
+        }
+        // Only the listed parameters are needed.
+        let mut only = FamilyParams::default();
+        for &parameter in info.parameters {
+            only = only.with(parameter, 7);
+        }
+        assert!(resolve(info.key, &only).unwrap().is_some(), "{}", info.key);
+    }
+    assert_eq!(resolve("not_a_family", &all), Ok(None));
+}
+
+/// For every family, the break point is the smallest k with m_H(k) < 2^k
+/// (the definition), computed from the exact growth function.
+#[test]
+fn break_points_follow_from_the_exact_growth_functions() {
+    let families = [
+        Family::Ray,
+        Family::Interval,
+        Family::Linear { dim: 3 },
+        Family::Box { dim: 2 },
+        Family::Stump { features: 5 },
+        Family::Finite { size: 300 },
+        Family::Tree {
+            leaves: 1,
+            features: 1,
+        },
+        Family::Vc { vc_dim: 9 },
+    ];
+    for family in families {
+        let first = (1..=64u64).find(|&k| family.growth_exact(k) < (BigUint::from(1u8) << k));
+        assert_eq!(family.break_point(), first, "{family:?}");
+    }
+}
