@@ -18,7 +18,7 @@ pub fn audit_outcome(
     let started = std::time::Instant::now();
     let runs = audit_runs_owned(outcome.runs, audit_settings);
     crate::timing::phase("audit", started);
-    let mut summary = summarize(&runs, audit_settings.gate);
+    let mut summary = summarize(&runs, audit_settings);
     summary.rows_skipped = outcome.skipped_rows.len() + outcome.rows_in_skipped_files;
     summary.rows_read = runs.len() + summary.rows_skipped;
     summary.files_skipped = outcome.skipped_files.len();

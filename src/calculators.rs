@@ -84,7 +84,8 @@ pub fn family(key: &str, params: &FamilyParams) -> Result<Family, Error> {
     match growth::resolve(key, params) {
         Ok(Some(family)) => Ok(family),
         Ok(None) => Err(Error::Usage(format!(
-            "--family {key}: unknown family; `gapcert families` lists the known ones"
+            "--family {key}: {}",
+            crate::suggest::unknown_family_sentence(key)
         ))),
         Err(error) => Err(Error::Usage(format!(
             "--{}: {}",

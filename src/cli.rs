@@ -18,7 +18,7 @@ pub struct Cli {
     #[command(subcommand)]
     pub command: Command,
     /// Print nothing but errors (the report still goes to --output files).
-    #[arg(long, short = 'q', global = true)]
+    #[arg(long, short = 'q', global = true, conflicts_with = "verbose")]
     pub quiet: bool,
     /// Say more: list skipped files and rows on stderr.
     #[arg(long, short = 'v', global = true)]
@@ -53,13 +53,15 @@ pub struct AuditArgs {
 
 #[derive(Debug, Args)]
 pub struct AuditFlags {
-    /// Confidence of every bound (δ = 1 − confidence).
-    #[arg(long, default_value_t = 0.95, value_name = "C")]
-    pub confidence: f64,
+    /// Confidence of every bound (δ = 1 − confidence), on the logs' scale: a fraction
+    /// (0.95), or a percentage (95) with --percent [default: 0.95].
+    #[arg(long, value_name = "C")]
+    pub confidence: Option<f64>,
     /// Which held-out bound decides the verdict.
     #[arg(long, value_enum, default_value_t = BoundArg::Binomial)]
     pub holdout_bound: BoundArg,
-    /// Claimed accuracy for rows that carry no claim.
+    /// Claimed accuracy for rows that carry no claim, on the logs' scale: a fraction
+    /// (0.97), or a percentage (97) with --percent.
     #[arg(long, value_name = "X")]
     pub claim_accuracy: Option<f64>,
     /// Divide δ by the number of claims so all certificates hold together (Bonferroni).
@@ -74,7 +76,9 @@ pub struct AuditFlags {
     /// Widest acceptable two-sided binomial interval before holdout_small.
     #[arg(long, default_value_t = 0.10, value_name = "W")]
     pub max_width: f64,
-    /// Rates, accuracies and claims are percentages (0–100).
+    /// Rates, accuracies and claims are percentages (0–100), and so are
+    /// --claim-accuracy and --confidence. A log whose rates and claims all lie in
+    /// [0, 1] is then an error (it holds fractions).
     #[arg(long)]
     pub percent: bool,
     /// Skip bad rows (and list them) instead of failing.
@@ -98,9 +102,22 @@ pub struct AuditFlags {
     /// Also write a self-contained HTML page with charts to FILE.
     #[arg(long, value_name = "FILE")]
     pub html: Option<PathBuf>,
-    /// Which verdicts fail the gate (exit code 1) [default: unproven].
+    /// Which verdicts fail the gate (exit code 1) [default: unproven]. Runs whose
+    /// claim looks like a slip (findings claim_below_half, claim_looks_like_error_rate,
+    /// claim_looks_like_accuracy, holdout_n_equals_train_n) fail it too.
     #[arg(long, value_enum)]
     pub gate: Option<GateArg>,
+    /// A finding that does not fail the gate (repeatable, or comma-separated).
+    #[arg(long = "gate-allow", value_name = "CODE", value_delimiter = ',')]
+    pub gate_allow: Vec<String>,
+    /// Table, Markdown and HTML: show only runs with these verdicts (comma-separated:
+    /// certified, unproven, refuted, no_claim). The data formats keep every run.
+    #[arg(long, value_name = "VERDICTS", value_delimiter = ',')]
+    pub only: Vec<VerdictArg>,
+    /// Table, Markdown and HTML: show the N worst runs (default: all up to 1,000; a
+    /// larger audit shows the 1,000 worst and says how many it left out).
+    #[arg(long, value_name = "N")]
+    pub top: Option<usize>,
 }
 
 #[derive(Debug, Subcommand)]
@@ -234,6 +251,15 @@ pub struct VerifyArgs {
 pub enum BoundArg {
     Binomial,
     Hoeffding,
+}
+
+#[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
+pub enum VerdictArg {
+    Certified,
+    Unproven,
+    Refuted,
+    #[value(name = "no_claim")]
+    NoClaim,
 }
 
 #[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]

@@ -40,6 +40,7 @@ pub mod options;
 pub mod pipeline;
 pub mod report;
 pub mod run;
+pub mod suggest;
 pub mod theory;
 pub mod timing;
 

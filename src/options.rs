@@ -4,14 +4,15 @@
 
 use std::path::PathBuf;
 
-use crate::audit::{AuditSettings, Gate, HoldoutBound};
+use crate::audit::{AuditSettings, FindingCode, Gate, HoldoutBound};
 use crate::error::{describe_io_error, Error};
 use crate::ingest::{columns, IngestSettings};
 
 /// The audit's options before any check, with the command line's defaults.
 #[derive(Clone, Debug, PartialEq)]
 pub struct AuditOptions {
-    pub confidence: f64,
+    /// On the logs' scale; None is 0.95 (95 %).
+    pub confidence: Option<f64>,
     pub holdout_bound: HoldoutBound,
     /// Claimed accuracy for runs that carry no claim, on the logs' scale.
     pub claim_accuracy: Option<f64>,
@@ -26,12 +27,14 @@ pub struct AuditOptions {
     /// A JSON file of renames.
     pub map_file: Option<PathBuf>,
     pub gate: Gate,
+    /// Finding codes that do not fail the gate (`--gate-allow`).
+    pub gate_allow: Vec<String>,
 }
 
 impl Default for AuditOptions {
     fn default() -> Self {
         AuditOptions {
-            confidence: 0.95,
+            confidence: None,
             holdout_bound: HoldoutBound::Binomial,
             claim_accuracy: None,
             familywise: false,
@@ -43,32 +46,27 @@ impl Default for AuditOptions {
             map: Vec::new(),
             map_file: None,
             gate: Gate::Unproven,
+            gate_allow: Vec::new(),
         }
     }
 }
 
 impl AuditOptions {
     /// Checks every option and returns the audit's and the reading's settings.
+    ///
+    /// `--claim-accuracy` and `--confidence` are read on the logs' scale: fractions,
+    /// or percentages under `--percent`. A value that only makes sense on the other
+    /// scale is an error that says so (`--percent --claim-accuracy 0.95` would claim
+    /// 0.95 % accuracy, which every run certifies).
     pub fn resolve(&self) -> Result<(AuditSettings, IngestSettings), Error> {
-        check_confidence(self.confidence)?;
+        let confidence = self.confidence_fraction()?;
         check_positive("--tolerance", self.tolerance)?;
         check_positive("--max-width", self.max_width)?;
-        let scale = if self.percent { 100.0 } else { 1.0 };
         let default_claim_accuracy = match self.claim_accuracy {
-            Some(claim) if (0.0..=scale).contains(&claim) => Some(claim / scale),
-            Some(claim) => {
-                return Err(Error::Usage(format!(
-                    "--claim-accuracy {claim} is outside [0, {scale}]{}",
-                    if self.percent {
-                        ""
-                    } else {
-                        " (pass --percent for percentages)"
-                    }
-                )))
-            }
+            Some(claim) => Some(self.fraction_of("--claim-accuracy", claim)?),
             None => None,
         };
-        let mut column_map = Vec::new();
+        let mut column_map: Vec<(String, String)> = Vec::new();
         if let Some(path) = &self.map_file {
             let text = std::fs::read_to_string(path).map_err(|error| {
                 Error::Usage(format!(
@@ -83,17 +81,39 @@ impl AuditOptions {
             );
         }
         for pair in &self.map {
-            column_map.push(columns::parse_map_pair(pair).map_err(Error::Usage)?);
+            let pair = columns::parse_map_pair(pair).map_err(Error::Usage)?;
+            // The same rename in --map-file and --map is one rename.
+            if !column_map.contains(&pair) {
+                column_map.push(pair);
+            }
         }
         columns::check_column_map(&column_map).map_err(Error::Usage)?;
+        let mut gate_allow = Vec::new();
+        for code in &self.gate_allow {
+            match FindingCode::parse(code.trim()) {
+                Some(code) if code.blocks_gate() => gate_allow.push(code),
+                _ => {
+                    let codes: Vec<&str> = FindingCode::ALL
+                        .iter()
+                        .filter(|c| c.blocks_gate())
+                        .map(|c| c.as_str())
+                        .collect();
+                    return Err(Error::Usage(format!(
+                        "--gate-allow {code}: only these findings fail the gate and can be allowed: {}",
+                        codes.join(", ")
+                    )));
+                }
+            }
+        }
         let audit = AuditSettings {
-            confidence: self.confidence,
+            confidence,
             holdout_bound: self.holdout_bound,
             familywise: self.familywise,
             same_holdout: self.same_holdout,
             tolerance: self.tolerance,
             max_width: self.max_width,
             gate: self.gate,
+            gate_allow,
         };
         let ingest = IngestSettings {
             percent: self.percent,
@@ -102,6 +122,50 @@ impl AuditOptions {
             default_claim_accuracy,
         };
         Ok((audit, ingest))
+    }
+
+    /// `--confidence` as a fraction: checked on the logs' scale.
+    fn confidence_fraction(&self) -> Result<f64, Error> {
+        let Some(confidence) = self.confidence else {
+            return Ok(0.95);
+        };
+        let confidence = self.fraction_of("--confidence", confidence)?;
+        check_confidence(confidence)?;
+        Ok(confidence)
+    }
+
+    /// A rate given on the logs' scale (`flag` names it), as a fraction: under
+    /// `--percent` a value in (1, 100] divided by 100 as the decimal it was written
+    /// as; otherwise a value in [0, 1].
+    fn fraction_of(&self, flag: &str, value: f64) -> Result<f64, Error> {
+        if self.percent {
+            if value > 1.0 && value <= 100.0 {
+                return Ok(crate::decimal::percent_to_fraction(value));
+            }
+            if (0.0..=1.0).contains(&value) {
+                return Err(Error::Usage(format!(
+                    "{flag} {value} reads as {value} % under --percent (rates, claims, {flag} are all percentages there); write the percentage, for example {}",
+                    value * 100.0
+                )));
+            }
+            return Err(Error::Usage(format!(
+                "{flag} {value} is outside [0, 100] (a percentage, under --percent)"
+            )));
+        }
+        if (0.0..=1.0).contains(&value) {
+            return Ok(value);
+        }
+        let hint = if value > 1.0 && value <= 100.0 {
+            format!(
+                " (write {}, or pass --percent if your logs hold percentages)",
+                value / 100.0
+            )
+        } else {
+            String::new()
+        };
+        Err(Error::Usage(format!(
+            "{flag} {value} is outside [0, 1]{hint}"
+        )))
     }
 }
 

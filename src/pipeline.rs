@@ -262,7 +262,7 @@ impl PreparedAudit<'_> {
                 let mut summary = Summary::default();
                 for results in results_in {
                     for result in &results {
-                        summary.count(result);
+                        summary.count(result, &audit_settings.gate_allow);
                     }
                     if done_out.send(transform(results)).is_err() {
                         break;

@@ -26,6 +26,20 @@ pub struct RunInput {
     pub holdout_set: Option<String>,
     pub candidates: u64,
     pub claim_error_rate: Option<f64>,
+    /// How the claim was written (None without a claim): the plausibility findings
+    /// compare a claim with the observed error on the scale it was written in.
+    pub claim_form: Option<ClaimForm>,
     /// Normalised RFC 3339 (UTC).
     pub logged_at: Option<String>,
+}
+
+/// How a run's claim was written.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum ClaimForm {
+    /// A `claimed_accuracy` cell.
+    Accuracy,
+    /// A `claimed_error_rate` cell.
+    ErrorRate,
+    /// No claim in the row: the accuracy of `--claim-accuracy`.
+    DefaultAccuracy,
 }

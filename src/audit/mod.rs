@@ -3,6 +3,8 @@
 //! Data flows one way: ingest produced [`RunInput`]s; this module turns them into
 //! [`RunResult`]s by calling `theory/`; reports only read the results.
 
+pub mod explain;
+pub mod finding;
 pub mod per_run;
 pub mod result;
 pub mod settings;
@@ -13,8 +15,9 @@ use std::sync::Mutex;
 
 use rayon::prelude::*;
 
+pub use finding::{Finding, FindingCode};
 pub use per_run::{audit_run, holdout_needed_for, RunContext};
-pub use result::{Finding, FindingCode, GateResult, RunResult, Summary, Verdict};
+pub use result::{GateResult, RunResult, Summary, Verdict};
 
 pub use settings::{AuditSettings, Gate, HoldoutBound};
 
@@ -213,6 +216,7 @@ impl<'a> Auditor<'a> {
                 };
                 let mut result = audit_run(input, context, settings);
                 result.holdout_needed = holdout_needed(&result);
+                result.explanation = explain::explanation(&result);
                 result
             })
             .collect()
@@ -227,11 +231,11 @@ fn lock<T>(mutex: &Mutex<T>) -> std::sync::MutexGuard<'_, T> {
 }
 
 /// Counts verdicts and applies the gate.
-pub fn summarize(results: &[RunResult], gate: Gate) -> Summary {
+pub fn summarize(results: &[RunResult], settings: &AuditSettings) -> Summary {
     let mut summary = Summary::default();
     for result in results {
-        summary.count(result);
+        summary.count(result, &settings.gate_allow);
     }
-    summary.apply_gate(gate);
+    summary.apply_gate(settings.gate);
     summary
 }

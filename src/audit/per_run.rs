@@ -1,8 +1,10 @@
 //! The audit of one run: a pure function of the run, its K and the settings (SPEC §4).
 
-use super::result::{Finding, FindingCode, RunResult, Verdict};
+use super::explain;
+use super::finding::{Finding, FindingCode};
+use super::result::{RunResult, Verdict};
 use super::settings::{AuditSettings, HoldoutBound};
-use crate::run::RunInput;
+use crate::run::{ClaimForm, RunInput};
 use crate::theory::{binomial, hoeffding, sample_size, vc};
 
 /// What the audit knows about a run beyond its own row.
@@ -14,12 +16,15 @@ pub struct RunContext {
     pub delta: f64,
     /// `train_needed` for the run's family at this δ (computed once per family).
     pub train_needed: Option<u64>,
-    /// Leave `holdout_needed` empty: the caller fills it once per distinct
-    /// (rate, claim, δ/K) with [`holdout_needed_for`], since sweeps repeat them.
+    /// Leave `holdout_needed` (and the explanation, which names it) empty: the
+    /// caller fills it once per distinct (rate, claim, δ/K) with
+    /// [`holdout_needed_for`], since sweeps repeat them, then writes the explanation
+    /// with [`explain::explanation`].
     pub defer_holdout_needed: bool,
     /// Write each finding's sentence. Without it the findings carry their codes and
     /// empty messages: the flat formats print codes only, and formatting the numbers
-    /// of a million sentences nobody reads costs more than some of the math.
+    /// of a million sentences nobody reads costs more than some of the math
+    /// ([`explain::fill_messages`] writes them later for the runs a report shows).
     pub messages: bool,
 }
 
@@ -103,91 +108,46 @@ pub fn audit_run(input: RunInput, context: RunContext, settings: &AuditSettings)
     };
 
     let mut findings = Vec::new();
-    let mut note = |code: FindingCode, message: &dyn Fn() -> String| {
+    let mut note = |code: FindingCode| {
         findings.push(Finding {
             code,
-            message: if context.messages {
-                message()
-            } else {
-                String::new()
-            },
-        });
+            message: String::new(),
+        })
     };
     if compared > 1 {
-        note(FindingCode::HoldoutReused, &|| {
-            format!(
-                "{compared} models were compared on this held-out split, so each bound holds at level δ/{compared} = {delta_per_run:.3e}"
-            )
-        });
+        note(FindingCode::HoldoutReused);
     }
-    let width = binomial_interval.1 - binomial_interval.0;
-    if width > settings.max_width {
-        note(FindingCode::HoldoutSmall, &|| {
-            format!(
-                "the two-sided binomial interval is {:.1} points wide (limit {:.1}); {n} held-out examples are too few for a precise estimate",
-                width * 100.0,
-                settings.max_width * 100.0
-            )
-        });
+    if binomial_interval.1 - binomial_interval.0 > settings.max_width {
+        note(FindingCode::HoldoutSmall);
     }
     match theory {
         Some((_, allowance, train_rate, _)) => {
             if lower - train_rate > allowance {
-                note(FindingCode::GapBeyondTheory, &|| {
-                    format!(
-                        "even the lower bound {lower:.4} exceeds training error {train_rate:.4} by more than the VC allowance {allowance:.4}: suspect distribution shift, leakage or wrong family parameters"
-                    )
-                });
+                note(FindingCode::GapBeyondTheory);
             }
             if train_rate + allowance >= 1.0 {
-                note(FindingCode::TheoryVacuous, &|| {
-                    format!(
-                        "the VC bound {:.3} is at least 1, so the training data alone guarantee nothing; {} would need about {} training examples for an allowance of {}",
-                        train_rate + allowance,
-                        input.family_key.as_deref().unwrap_or("this family"),
-                        context
-                            .train_needed
-                            .map(|n| n.to_string())
-                            .unwrap_or_else(|| "an unbounded number of".to_string()),
-                        settings.tolerance
-                    )
-                });
+                note(FindingCode::TheoryVacuous);
             }
         }
-        None => {
-            note(FindingCode::TheoryUnavailable, &|| {
-                let reason = match (&input.family_key, input.family) {
-                    (None, _) => "no model family is logged".to_string(),
-                    (Some(key), None) => {
-                        format!("family `{key}` has no known growth bound (see `gapcert families`)")
-                    }
-                    (Some(_), Some(_)) => {
-                        "the training size or training error is not logged".to_string()
-                    }
-                };
-                format!("no VC bound: {reason}")
-            });
-        }
+        None => note(FindingCode::TheoryUnavailable),
     }
     // Needs only the training size and error, not a family.
     if let (Some(train_n), Some(train_rate)) = (input.train_n, input.train_error_rate) {
         let training_margin = ((1.0 / delta).ln() / (2.0 * train_n as f64)).sqrt();
         if upper < train_rate - training_margin {
-            note(FindingCode::HoldoutEasierThanTrain, &|| {
-                format!(
-                    "held-out error is significantly below training error (upper bound {upper:.4} < {train_rate:.4} − {training_margin:.4}): check the split, the logging, or leakage into the held-out set"
-                )
-            });
+            note(FindingCode::HoldoutEasierThanTrain);
         }
     }
     if input.misclassified_derived {
-        note(FindingCode::MisclassifiedDerived, &|| {
-            format!(
-                "the held-out count {k} was derived as round(rate × n) from the logged rate; the binomial bound uses it"
-            )
-        });
+        note(FindingCode::MisclassifiedDerived);
     }
-    RunResult {
+    if let Some(code) = implausible_claim(input.claim_error_rate, input.claim_form, rate) {
+        note(code);
+    }
+    if input.train_n == Some(n) {
+        note(FindingCode::HoldoutNEqualsTrainN);
+    }
+    let mut result = RunResult {
         run: input.run,
         source: input.source,
         family: input.family_key,
@@ -203,6 +163,7 @@ pub fn audit_run(input: RunInput, context: RunContext, settings: &AuditSettings)
         binomial_interval: [binomial_interval.0, binomial_interval.1],
         error_upper_bound: upper,
         error_lower_bound: lower,
+        certifiable_accuracy: 1.0 - upper,
         vc_dim: input.family.and_then(|f| f.vc_dim()),
         growth_ln: theory.map(|t| t.0),
         vc_allowance: theory.map(|t| t.1),
@@ -211,9 +172,50 @@ pub fn audit_run(input: RunInput, context: RunContext, settings: &AuditSettings)
         certified_gap_max: input.train_error_rate.map(|train| upper - train),
         claim_error_rate: input.claim_error_rate,
         verdict,
+        explanation: String::new(),
         holdout_needed,
         train_needed: context.train_needed,
         findings,
         logged_at: input.logged_at,
+    };
+    if context.messages {
+        explain::fill_messages(&mut result, settings);
+    }
+    if !context.defer_holdout_needed {
+        result.explanation = explain::explanation(&result);
+    }
+    result
+}
+
+/// How far the observed error and a claim may be apart for the claim to look like
+/// the other scale (an error rate written as an accuracy, or the reverse).
+const OTHER_SCALE_DISTANCE: f64 = 0.1;
+
+/// The plausibility finding of a claim, if any: one that looks written on the other
+/// scale than its column says (closer to the observed error rate than to the observed
+/// accuracy, or the reverse, and within [`OTHER_SCALE_DISTANCE`] of it), else a
+/// claimed accuracy below one half.
+fn implausible_claim(
+    claim: Option<f64>,
+    form: Option<ClaimForm>,
+    rate: f64,
+) -> Option<FindingCode> {
+    let claim = claim?;
+    let claimed_accuracy = 1.0 - claim;
+    let near = |value: f64, target: f64, other: f64| {
+        (value - target).abs() < (value - other).abs()
+            && (value - target).abs() <= OTHER_SCALE_DISTANCE
+    };
+    match form? {
+        ClaimForm::Accuracy | ClaimForm::DefaultAccuracy
+            if claimed_accuracy < 0.5 && near(claimed_accuracy, rate, 1.0 - rate) =>
+        {
+            Some(FindingCode::ClaimLooksLikeErrorRate)
+        }
+        ClaimForm::ErrorRate if claim > 0.5 && near(claim, 1.0 - rate, rate) => {
+            Some(FindingCode::ClaimLooksLikeAccuracy)
+        }
+        _ if claimed_accuracy < 0.5 => Some(FindingCode::ClaimBelowHalf),
+        _ => None,
     }
 }

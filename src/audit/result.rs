@@ -2,6 +2,9 @@
 
 use serde::{Deserialize, Serialize};
 
+pub use super::finding::{Finding, FindingCode};
+use super::settings::Gate;
+
 /// The verdict on a run's claim (SPEC §4).
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, Serialize, Deserialize)]
 #[serde(rename_all = "snake_case")]
@@ -33,40 +36,6 @@ impl Verdict {
     }
 }
 
-/// Codes of the findings (SPEC §4).
-#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, Serialize, Deserialize)]
-#[serde(rename_all = "snake_case")]
-pub enum FindingCode {
-    HoldoutReused,
-    HoldoutSmall,
-    GapBeyondTheory,
-    HoldoutEasierThanTrain,
-    TheoryVacuous,
-    TheoryUnavailable,
-    MisclassifiedDerived,
-}
-
-impl FindingCode {
-    pub fn as_str(self) -> &'static str {
-        match self {
-            FindingCode::HoldoutReused => "holdout_reused",
-            FindingCode::HoldoutSmall => "holdout_small",
-            FindingCode::GapBeyondTheory => "gap_beyond_theory",
-            FindingCode::HoldoutEasierThanTrain => "holdout_easier_than_train",
-            FindingCode::TheoryVacuous => "theory_vacuous",
-            FindingCode::TheoryUnavailable => "theory_unavailable",
-            FindingCode::MisclassifiedDerived => "misclassified_derived",
-        }
-    }
-}
-
-/// A finding: a code plus a sentence for people.
-#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
-pub struct Finding {
-    pub code: FindingCode,
-    pub message: String,
-}
-
 /// Everything the audit says about one run; field names are SPEC §7's.
 #[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
 pub struct RunResult {
@@ -88,6 +57,8 @@ pub struct RunResult {
     pub binomial_interval: [f64; 2],
     pub error_upper_bound: f64,
     pub error_lower_bound: f64,
+    /// 1 − U: the strongest accuracy claim the run's evidence certifies.
+    pub certifiable_accuracy: f64,
     pub vc_dim: Option<u64>,
     pub growth_ln: Option<f64>,
     pub vc_allowance: Option<f64>,
@@ -96,6 +67,8 @@ pub struct RunResult {
     pub certified_gap_max: Option<f64>,
     pub claim_error_rate: Option<f64>,
     pub verdict: Verdict,
+    /// One sentence saying why the verdict is what it is.
+    pub explanation: String,
     pub holdout_needed: Option<u64>,
     pub train_needed: Option<u64>,
     pub findings: Vec<Finding>,
@@ -125,13 +98,24 @@ pub struct Summary {
     pub files_skipped: usize,
     /// Runs whose held-out split is unknown, so reuse could not be checked.
     pub reuse_unchecked: usize,
+    /// Runs with a claim and a finding that fails the gate (a slip of scale or of
+    /// column; see [`FindingCode::blocks_gate`]) not allowed by `--gate-allow`.
+    pub gate_findings: usize,
     pub gate: GateResult,
 }
 
 impl Summary {
-    /// Counts one audited run.
-    pub fn count(&mut self, result: &RunResult) {
+    /// Counts one audited run; `gate_allow` are the codes `--gate-allow` names.
+    pub fn count(&mut self, result: &RunResult, gate_allow: &[FindingCode]) {
         self.runs += 1;
+        if result.verdict != Verdict::NoClaim
+            && result
+                .findings
+                .iter()
+                .any(|f| f.code.blocks_gate() && !gate_allow.contains(&f.code))
+        {
+            self.gate_findings += 1;
+        }
         match result.verdict {
             Verdict::Certified => self.certified += 1,
             Verdict::Unproven => self.unproven += 1,
@@ -144,11 +128,11 @@ impl Summary {
     }
 
     /// Sets `gate` from the counts.
-    pub fn apply_gate(&mut self, gate: super::Gate) {
+    pub fn apply_gate(&mut self, gate: Gate) {
         let fails = match gate {
-            super::Gate::Unproven => self.unproven + self.refuted > 0,
-            super::Gate::Refuted => self.refuted > 0,
-            super::Gate::Never => false,
+            Gate::Unproven => self.unproven + self.refuted + self.gate_findings > 0,
+            Gate::Refuted => self.refuted + self.gate_findings > 0,
+            Gate::Never => false,
         };
         self.gate = if fails {
             GateResult::Fail

@@ -2,6 +2,8 @@
 
 use serde::{Deserialize, Serialize};
 
+use super::finding::FindingCode;
+
 /// Which held-out bound decides the verdict and fills the one-sided bounds.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize, Deserialize)]
 #[serde(rename_all = "lowercase")]
@@ -53,6 +55,9 @@ pub struct AuditSettings {
     pub tolerance: f64,
     pub max_width: f64,
     pub gate: Gate,
+    /// Findings that do not fail the gate (`--gate-allow`); see
+    /// [`FindingCode::blocks_gate`].
+    pub gate_allow: Vec<FindingCode>,
 }
 
 impl Default for AuditSettings {
@@ -65,6 +70,7 @@ impl Default for AuditSettings {
             tolerance: 0.05,
             max_width: 0.10,
             gate: Gate::Unproven,
+            gate_allow: Vec::new(),
         }
     }
 }

@@ -41,6 +41,7 @@ pub fn resolve_audit(flags: &AuditFlags) -> Result<AuditRequest, Error> {
             GateArg::Refuted => Gate::Refuted,
             GateArg::Never => Gate::Never,
         },
+        gate_allow: flags.gate_allow.clone(),
     };
     let (audit, ingest) = options.resolve()?;
     Ok(AuditRequest {

@@ -61,20 +61,44 @@ pub struct ColumnBinding {
     pub index: HashMap<&'static str, usize>,
 }
 
-/// Validates `--map canonical=theirs` pairs: the canonical side must be a known column.
+/// Validates renames: the canonical side must be a known column, the log side not
+/// empty, and no canonical column renamed twice to different columns (`source` names
+/// where the renames came from, for the message).
 pub fn check_column_map(pairs: &[(String, String)]) -> Result<(), String> {
-    for (canonical, theirs) in pairs {
+    for (index, (canonical, theirs)) in pairs.iter().enumerate() {
         if !CANONICAL_COLUMNS.contains(&canonical.to_ascii_lowercase().as_str()) {
+            let hint = closest_canonical(canonical)
+                .map(|known| format!(" (did you mean `{known}`?)"))
+                .unwrap_or_default();
             return Err(format!(
-                "--map {canonical}={theirs}: `{canonical}` is not a gapcert column; known columns: {}",
+                "--map {canonical}={theirs}: `{canonical}` is not a gapcert column{hint}; known columns: {}",
                 CANONICAL_COLUMNS.join(", ")
             ));
         }
         if theirs.trim().is_empty() {
             return Err(format!("--map {canonical}=: the log column name is empty"));
         }
+        if let Some((_, other)) = pairs[..index]
+            .iter()
+            .find(|(c, t)| c == canonical && !t.trim().eq_ignore_ascii_case(theirs.trim()))
+        {
+            return Err(format!(
+                "`{canonical}` is mapped twice, to `{other}` and to `{theirs}`: say which column holds it (one --map per column, and the same in --map and --map-file)"
+            ));
+        }
     }
     Ok(())
+}
+
+/// The canonical column closest to an unknown name (two edits at most), for hints.
+fn closest_canonical(name: &str) -> Option<&'static str> {
+    let name = name.to_ascii_lowercase();
+    CANONICAL_COLUMNS
+        .iter()
+        .map(|&known| (crate::suggest::edit_distance(&name, known), known))
+        .filter(|&(distance, _)| distance <= 2 && distance < name.len())
+        .min_by_key(|&(distance, _)| distance)
+        .map(|(_, known)| known)
 }
 
 /// Parses `canonical=theirs`.
@@ -90,17 +114,12 @@ pub fn parse_map_pair(text: &str) -> Result<(String, String), String> {
     }
 }
 
-/// Parses a `--map-file`: a JSON object of canonical → their column name.
+/// Parses a `--map-file`: a JSON object of canonical → their column name. A key
+/// written twice is an error (JSON readers keep one of them silently).
 pub fn parse_map_file(label: &str, text: &str) -> Result<Vec<(String, String)>, String> {
-    let value: serde_json::Value =
-        serde_json::from_str(text).map_err(|error| format!("{label}: invalid JSON ({error})"))?;
-    let serde_json::Value::Object(map) = value else {
-        return Err(format!(
-            "{label}: expected a JSON object such as {{\"holdout_n\": \"n_val\"}}"
-        ));
-    };
-    let mut pairs = Vec::with_capacity(map.len());
-    for (canonical, theirs) in map {
+    let entries = parse_object_unique(text).map_err(|error| format!("{label}: {error}"))?;
+    let mut pairs = Vec::with_capacity(entries.len());
+    for (canonical, theirs) in entries {
         match theirs {
             serde_json::Value::String(theirs) => {
                 pairs.push((canonical.trim().to_ascii_lowercase(), theirs))
@@ -113,6 +132,41 @@ pub fn parse_map_file(label: &str, text: &str) -> Result<Vec<(String, String)>, 
         }
     }
     Ok(pairs)
+}
+
+/// A JSON object's entries in the order written; a key written twice is an error.
+pub fn parse_object_unique(text: &str) -> Result<Vec<(String, serde_json::Value)>, String> {
+    struct Entries(Vec<(String, serde_json::Value)>);
+    impl<'de> serde::Deserialize<'de> for Entries {
+        fn deserialize<D: serde::Deserializer<'de>>(deserializer: D) -> Result<Self, D::Error> {
+            struct Visit;
+            impl<'de> serde::de::Visitor<'de> for Visit {
+                type Value = Entries;
+                fn expecting(&self, f: &mut std::fmt::Formatter) -> std::fmt::Result {
+                    f.write_str("a JSON object such as {\"holdout_n\": \"n_val\"}")
+                }
+                fn visit_map<A: serde::de::MapAccess<'de>>(
+                    self,
+                    mut map: A,
+                ) -> Result<Entries, A::Error> {
+                    let mut entries: Vec<(String, serde_json::Value)> = Vec::new();
+                    while let Some((key, value)) = map.next_entry::<String, serde_json::Value>()? {
+                        if entries.iter().any(|(seen, _)| *seen == key) {
+                            return Err(serde::de::Error::custom(format!(
+                                "the key `{key}` is written twice"
+                            )));
+                        }
+                        entries.push((key, value));
+                    }
+                    Ok(Entries(entries))
+                }
+            }
+            deserializer.deserialize_map(Visit)
+        }
+    }
+    serde_json::from_str::<Entries>(text)
+        .map(|entries| entries.0)
+        .map_err(|error| format!("invalid map file ({error})"))
 }
 
 /// Binds canonical fields to the file's columns, case-insensitively, after renames.

@@ -13,7 +13,7 @@ use super::columns::{
 use super::settings::IngestSettings;
 use crate::decimal::{complement, percent_to_fraction};
 use crate::error::Problem;
-use crate::run::RunInput;
+use crate::run::{ClaimForm, RunInput};
 use crate::theory::growth::{resolve, FamilyParams, FAMILY_PARAMETERS};
 
 /// Accuracy and error rate logged together must sum to 1 within this (SPEC §3).
@@ -476,6 +476,11 @@ impl Extracted<'_> {
             (None, Some(accuracy)) => Some(complement(accuracy)),
             (None, None) => settings.default_claim_accuracy.map(complement),
         };
+        let claim_form = match (c_error, c_accuracy) {
+            (Some(_), _) => Some(ClaimForm::ErrorRate),
+            (None, Some(_)) => Some(ClaimForm::Accuracy),
+            (None, None) => claim_error_rate.map(|_| ClaimForm::DefaultAccuracy),
+        };
 
         let family_key = self.text("family", i);
         let family = match family_key {
@@ -540,6 +545,7 @@ impl Extracted<'_> {
             holdout_set: self.text("holdout_set", i).map(str::to_string),
             candidates: k_candidates.unwrap_or(1),
             claim_error_rate,
+            claim_form,
             logged_at: logged,
         })
     }

@@ -3,7 +3,7 @@
 
 use serde::{Deserialize, Serialize};
 
-use crate::audit::{AuditSettings, Gate, HoldoutBound, RunResult, Summary};
+use crate::audit::{AuditSettings, FindingCode, Gate, HoldoutBound, RunResult, Summary};
 use crate::ingest::{IngestSettings, InputFile, SkippedFile, SkippedRow};
 
 /// The cautions printed once under every report (SPEC §9).
@@ -37,6 +37,9 @@ pub struct DocumentSettings {
     pub tolerance: f64,
     pub max_width: f64,
     pub gate: Gate,
+    /// `--gate-allow` codes.
+    #[serde(default)]
+    pub gate_allow: Vec<FindingCode>,
     pub same_holdout: bool,
     pub percent: bool,
     pub lenient: bool,
@@ -54,6 +57,7 @@ impl DocumentSettings {
             tolerance: audit.tolerance,
             max_width: audit.max_width,
             gate: audit.gate,
+            gate_allow: audit.gate_allow.clone(),
             same_holdout: audit.same_holdout,
             percent: ingest.percent,
             lenient: ingest.lenient,
@@ -71,6 +75,7 @@ impl DocumentSettings {
             tolerance: self.tolerance,
             max_width: self.max_width,
             gate: self.gate,
+            gate_allow: self.gate_allow.clone(),
         }
     }
 

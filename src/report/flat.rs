@@ -28,6 +28,7 @@ pub const FLAT_COLUMNS: &[&str] = &[
     "binomial_interval_hi",
     "error_upper_bound",
     "error_lower_bound",
+    "certifiable_accuracy",
     "vc_dim",
     "growth_ln",
     "vc_allowance",
@@ -36,6 +37,7 @@ pub const FLAT_COLUMNS: &[&str] = &[
     "certified_gap_max",
     "claim_error_rate",
     "verdict",
+    "explanation",
     "holdout_needed",
     "train_needed",
     "findings",
@@ -61,6 +63,7 @@ struct FlatRun<'a> {
     binomial_interval_hi: f64,
     error_upper_bound: f64,
     error_lower_bound: f64,
+    certifiable_accuracy: f64,
     vc_dim: Option<u64>,
     growth_ln: Option<f64>,
     vc_allowance: Option<f64>,
@@ -69,6 +72,7 @@ struct FlatRun<'a> {
     certified_gap_max: Option<f64>,
     claim_error_rate: Option<f64>,
     verdict: &'static str,
+    explanation: &'a str,
     holdout_needed: Option<u64>,
     train_needed: Option<u64>,
     /// Codes only: the sentences are in the JSON document, table, Markdown and HTML.
@@ -96,6 +100,7 @@ impl<'a> FlatRun<'a> {
             binomial_interval_hi: r.binomial_interval[1],
             error_upper_bound: r.error_upper_bound,
             error_lower_bound: r.error_lower_bound,
+            certifiable_accuracy: r.certifiable_accuracy,
             vc_dim: r.vc_dim,
             growth_ln: r.growth_ln,
             vc_allowance: r.vc_allowance,
@@ -104,6 +109,7 @@ impl<'a> FlatRun<'a> {
             certified_gap_max: r.certified_gap_max,
             claim_error_rate: r.claim_error_rate,
             verdict: r.verdict.as_str(),
+            explanation: &r.explanation,
             holdout_needed: r.holdout_needed,
             train_needed: r.train_needed,
             findings: r.findings.iter().map(|f| f.code.as_str()).collect(),
@@ -180,6 +186,8 @@ fn push_json_line(line: &mut Vec<u8>, r: &RunResult) {
     push_f64(line, r.error_upper_bound);
     line.extend_from_slice(b",\"error_lower_bound\":");
     push_f64(line, r.error_lower_bound);
+    line.extend_from_slice(b",\"certifiable_accuracy\":");
+    push_f64(line, r.certifiable_accuracy);
     line.extend_from_slice(b",\"vc_dim\":");
     push_opt_u64(line, r.vc_dim);
     line.extend_from_slice(b",\"growth_ln\":");
@@ -196,7 +204,9 @@ fn push_json_line(line: &mut Vec<u8>, r: &RunResult) {
     push_opt_f64(line, r.claim_error_rate);
     line.extend_from_slice(b",\"verdict\":\"");
     line.extend_from_slice(r.verdict.as_str().as_bytes());
-    line.extend_from_slice(b"\",\"holdout_needed\":");
+    line.extend_from_slice(b"\",\"explanation\":");
+    push_text(line, &r.explanation);
+    line.extend_from_slice(b",\"holdout_needed\":");
     push_opt_u64(line, r.holdout_needed);
     line.extend_from_slice(b",\"train_needed\":");
     push_opt_u64(line, r.train_needed);
@@ -339,7 +349,7 @@ pub fn write_csv_rows(runs: &[RunResult], out: &mut dyn Write) -> io::Result<()>
     for r in runs {
         line.clear();
         let findings: Vec<&str> = r.findings.iter().map(|f| f.code.as_str()).collect();
-        let fields: [String; 29] = [
+        let fields: [String; 31] = [
             text_cell(&r.run),
             text_cell(&r.source),
             opt_text(r.family.as_deref()),
@@ -357,6 +367,7 @@ pub fn write_csv_rows(runs: &[RunResult], out: &mut dyn Write) -> io::Result<()>
             r.binomial_interval[1].to_string(),
             r.error_upper_bound.to_string(),
             r.error_lower_bound.to_string(),
+            r.certifiable_accuracy.to_string(),
             opt_num(r.vc_dim),
             opt_num(r.growth_ln),
             opt_num(r.vc_allowance),
@@ -365,6 +376,7 @@ pub fn write_csv_rows(runs: &[RunResult], out: &mut dyn Write) -> io::Result<()>
             opt_num(r.certified_gap_max),
             opt_num(r.claim_error_rate),
             r.verdict.as_str().to_string(),
+            text_cell(&r.explanation),
             opt_num(r.holdout_needed),
             opt_num(r.train_needed),
             text_cell(&findings.join(";")),
@@ -435,6 +447,7 @@ pub fn runs_frame(runs: &[RunResult]) -> PolarsResult<DataFrame> {
         float("binomial_interval_hi", &|r| Some(r.binomial_interval[1])),
         float("error_upper_bound", &|r| Some(r.error_upper_bound)),
         float("error_lower_bound", &|r| Some(r.error_lower_bound)),
+        float("certifiable_accuracy", &|r| Some(r.certifiable_accuracy)),
         count("vc_dim", &|r| r.vc_dim),
         float("growth_ln", &|r| r.growth_ln),
         float("vc_allowance", &|r| r.vc_allowance),
@@ -443,6 +456,7 @@ pub fn runs_frame(runs: &[RunResult]) -> PolarsResult<DataFrame> {
         float("certified_gap_max", &|r| r.certified_gap_max),
         float("claim_error_rate", &|r| r.claim_error_rate),
         text("verdict", &|r| Some(r.verdict.as_str().to_string())),
+        text("explanation", &|r| Some(r.explanation.clone())),
         count("holdout_needed", &|r| r.holdout_needed),
         count("train_needed", &|r| r.train_needed),
         text("findings", &|r| {

@@ -5,7 +5,10 @@ use crate::audit::{GateResult, RunResult};
 
 /// A rate as a percentage with two decimals ("3.25%").
 pub fn percent(rate: f64) -> String {
-    format!("{:.2}%", rate * 100.0)
+    let mut text = String::with_capacity(8);
+    crate::decimal::push_percent(&mut text, rate);
+    text.push('%');
+    text
 }
 
 /// Runs sorted worst first: refuted, unproven, certified, no claim; within a verdict,
@@ -75,15 +78,4 @@ pub fn printable(text: &str) -> String {
         .collect()
 }
 
-/// 1234567 → "1,234,567".
-pub fn group_thousands(value: u64) -> String {
-    let digits = value.to_string();
-    let mut grouped = String::with_capacity(digits.len() + digits.len() / 3);
-    for (index, ch) in digits.chars().enumerate() {
-        if index > 0 && (digits.len() - index) % 3 == 0 {
-            grouped.push(',');
-        }
-        grouped.push(ch);
-    }
-    grouped
-}
+pub use crate::decimal::group_thousands;

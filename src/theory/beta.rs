@@ -71,12 +71,21 @@ pub struct LnBetaTails {
 
 /// `(I_x(a, b), 1 − I_x(a, b))` for a, b ≥ 1 and x ∈ [0, 1], with y = 1 − x
 /// supplied by the caller so that both tails keep full relative accuracy.
+///
+/// Domain: a, b ≥ 1 (up to about 10¹²), x ∈ [0, 1]. Accuracy: worst relative error
+/// 1.6e-13 on the lower and 1.1e-11 on the upper tail against 82 mpmath points of
+/// each (50 digits, `fixtures/reference/special.csv`) covering every region of the
+/// table above, tails down to 1e-300 and a, b up to 10⁷; the largest errors are at
+/// tails near 1e-300 with a = b = 10⁷, where one unit in the last place of x moves
+/// the tail by about 3e-11. Source: DiDonato & Morris 1992 (module docs).
 pub fn incomplete_beta(a: f64, b: f64, x: f64, y: f64) -> (f64, f64) {
     let tails = ln_incomplete_beta(a, b, x, y);
     (tails.ln_lower.exp(), tails.ln_upper.exp())
 }
 
 /// Logarithms of `I_x(a, b)` and `1 − I_x(a, b)` (see [`incomplete_beta`]).
+///
+/// Domain, accuracy and source as [`incomplete_beta`].
 pub fn ln_incomplete_beta(a: f64, b: f64, x: f64, y: f64) -> LnBetaTails {
     if x <= 0.0 {
         return LnBetaTails {
@@ -257,6 +266,9 @@ fn ln_xy(x: f64, y: f64) -> (f64, f64) {
 }
 
 /// `ln(xᵃ yᵇ / B(a, b))` (DiDonato & Morris 1992, BRCOMP) for a, b ≥ 1.
+///
+/// Domain: a, b ≥ 1, 0 < x < 1 with y = 1 − x. Accuracy: checked through
+/// [`incomplete_beta`], whose every method multiplies by it.
 pub fn ln_prefactor(a: f64, b: f64, x: f64, y: f64) -> f64 {
     if x <= 0.0 || y <= 0.0 {
         return f64::NEG_INFINITY;
@@ -652,7 +664,10 @@ impl Start {
 
 /// x ∈ [0, 1] with `I_x(a, b) = probability` (tail = Lower) or
 /// `1 − I_x(a, b) = probability` (tail = Upper), for a, b ≥ 1 and
-/// 0 ≤ probability ≤ 1. Relative accuracy of x is about 1e-14.
+/// 0 ≤ probability ≤ 1. Relative accuracy of x is about 1e-14: the binomial bounds
+/// built on it are within 1.6e-14 of 1,752 mpmath values
+/// (`fixtures/reference/binomial_bounds.csv`). Sources: DiDonato & Morris 1992 for
+/// the ratio; the starting values of the module docs.
 pub fn inverse_incomplete_beta(a: f64, b: f64, tail: Tail, probability: f64) -> f64 {
     if probability.is_nan() || a.is_nan() || b.is_nan() {
         return f64::NAN;

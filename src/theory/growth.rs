@@ -522,6 +522,12 @@ pub fn sauer_sum_exact(n: u64, d: u64) -> BigUint {
     }
 }
 
+/// Whether `key` names a family of [`catalogue`] (case-insensitive).
+pub fn is_known_key(key: &str) -> bool {
+    let key = key.trim();
+    CATALOGUE.iter().any(|f| f.key.eq_ignore_ascii_case(key))
+}
+
 /// One row of `gapcert families`.
 pub struct FamilyInfo {
     pub key: &'static str,

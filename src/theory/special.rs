@@ -23,6 +23,15 @@
 //! [`ln_choose`] builds `ln C(n, k)` on [`ln_beta`], so the Stirling terms of
 //! n, k and n − k never cancel each other (needed for n ≈ 10¹² in the growth
 //! functions).
+//!
+//! Measured accuracy, worst relative error against mpmath at 50 digits over the
+//! grids of `fixtures/reference/special.csv` (`scripts/reference_special.py`,
+//! checked by `tests/it/theory_reference.rs`): [`ln_gamma`] 8.4e-16 (a from 1e-8 to
+//! 1e15), [`ln_gamma_1p`] 2.0e-15, [`ln_beta`] 1.1e-14 (a, b from 0.5 to 1e12),
+//! [`ln_choose`] 3.4e-16 (n up to 2⁶³), [`rlog1`] 2.5e-16, [`erfc_scaled`] 8.7e-16,
+//! [`ln_one_minus_exp`] 1.2e-16, [`normal_upper_deviate_approx`] 3.5e-16 (p down to
+//! 1e-300). The other functions are internal pieces of these and of the incomplete
+//! beta ratio, checked through them.
 
 /// ½·ln(2π).
 pub const LN_SQRT_2PI: f64 = 0.918_938_533_204_672_8;

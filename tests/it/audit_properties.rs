@@ -16,7 +16,7 @@ use std::collections::HashMap;
 
 use gapcert::audit::{audit_runs, AuditSettings, HoldoutBound, RunResult, Verdict};
 use gapcert::ingest::{IngestSettings, LogFormat, LogSource};
-use gapcert::run::RunInput;
+use gapcert::run::{ClaimForm, RunInput};
 use gapcert::theory::growth::Family;
 use proptest::prelude::*;
 
@@ -52,6 +52,7 @@ fn run_input() -> impl Strategy<Value = RunInput> {
                 holdout_set: split.map(|s| format!("split-{s}")),
                 candidates,
                 claim_error_rate: claim,
+                claim_form: claim.map(|_| ClaimForm::ErrorRate),
                 logged_at: None,
             }
         })

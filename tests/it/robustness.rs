@@ -18,7 +18,7 @@ use gapcert::report::escape::escape_markdown;
 use gapcert::report::flat::{write_csv, FLAT_COLUMNS};
 use gapcert::report::markdown::write_markdown;
 use gapcert::report::AuditDocument;
-use gapcert::run::RunInput;
+use gapcert::run::{ClaimForm, RunInput};
 use serde_json::Value;
 
 const DEADLINE: Duration = Duration::from_secs(60);
@@ -299,6 +299,7 @@ fn csv_neutralises_formulas_in_text_cells_only() {
         "holdout_set",
         "logged_at",
         "verdict",
+        "explanation",
         "findings",
     ];
     for (row, (r, original)) in rows.iter().zip(runs.iter().zip(TEXTS)) {
@@ -993,6 +994,7 @@ fn tiny_failure_probabilities_give_finite_bounds() {
         holdout_set: None,
         candidates: 1,
         claim_error_rate: claim,
+        claim_form: claim.map(|_| ClaimForm::ErrorRate),
         logged_at: None,
     };
     for bound in [HoldoutBound::Binomial, HoldoutBound::Hoeffding] {
