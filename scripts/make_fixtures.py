@@ -217,6 +217,12 @@ def make_demo():
     (fmt / "runs.jsonl").write_text("".join(json.dumps(r) + "\n" for r in recs))
     (fmt / "runs.json").write_text(json.dumps(recs, indent=1) + "\n")
 
+    # --same-holdout declares one shared split: the demo's runs with their split
+    # names left out (with the names, several splits contradict the flag, an error).
+    one_split = df.copy()
+    one_split["holdout_set"] = ""
+    write_csv(one_split, FIX / "demo" / "runs_one_split.csv")
+
     src = "fixtures/demo/runs.csv"
     variants = {
         "expected.csv": {},
@@ -226,7 +232,12 @@ def make_demo():
     }
     results = {}
     for name, settings in variants.items():
-        results[name] = reference(FIX / "demo" / "runs.csv", src, **settings)
+        if name == "expected_same_holdout.csv":
+            results[name] = reference(
+                FIX / "demo" / "runs_one_split.csv", "fixtures/demo/runs_one_split.csv", **settings
+            )
+        else:
+            results[name] = reference(FIX / "demo" / "runs.csv", src, **settings)
         write_expected(results[name], FIX / "demo" / name)
         fw = results[name]["claim_error_rate"].notna().sum() if settings.get("familywise") else 1
         check_margins(results[name], name, delta=0.05 / fw)

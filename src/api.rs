@@ -4,7 +4,7 @@
 //! Python package, the tests): each returns a value or an [`Error`], and none of them
 //! prints, exits the process or installs a handler.
 
-use crate::audit::{audit_runs_owned, summarize, AuditSettings};
+use crate::audit::{audit_runs_checked, summarize, AuditSettings};
 use crate::error::Error;
 use crate::ingest::{self, IngestOutcome, IngestSettings, LogSource};
 use crate::report::{self, AuditDocument, DocumentSettings, ToolInfo, CAUTIONS};
@@ -14,15 +14,15 @@ pub fn audit_outcome(
     outcome: IngestOutcome,
     audit_settings: &AuditSettings,
     ingest_settings: &IngestSettings,
-) -> AuditDocument {
+) -> Result<AuditDocument, Error> {
     let started = std::time::Instant::now();
-    let runs = audit_runs_owned(outcome.runs, audit_settings);
+    let runs = audit_runs_checked(outcome.runs, audit_settings)?;
     crate::timing::phase("audit", started);
     let mut summary = summarize(&runs, audit_settings);
     summary.rows_skipped = outcome.skipped_rows.len() + outcome.rows_in_skipped_files;
     summary.rows_read = runs.len() + summary.rows_skipped;
     summary.files_skipped = outcome.skipped_files.len();
-    AuditDocument {
+    Ok(AuditDocument {
         tool: ToolInfo::current(),
         generated_at: report::document::now_rfc3339(),
         settings: DocumentSettings::new(audit_settings, ingest_settings),
@@ -32,7 +32,7 @@ pub fn audit_outcome(
         skipped_rows: outcome.skipped_rows,
         skipped_files: outcome.skipped_files,
         cautions: CAUTIONS.iter().map(|c| c.to_string()).collect(),
-    }
+    })
 }
 
 /// Reads and audits the logs at `paths` (files or folders).
@@ -51,10 +51,21 @@ pub fn audit_paths_reporting(
     ingest_settings: &IngestSettings,
     progress: ingest::FileProgress<'_>,
 ) -> Result<AuditDocument, Error> {
+    audit_discovered(&ingest::discover(paths)?, audit_settings, ingest_settings, progress)
+}
+
+/// Reads and audits the logs `discovery` found (so that a caller can look at the
+/// files, say to keep outputs from replacing them, before any is read).
+pub fn audit_discovered(
+    discovery: &ingest::Discovery,
+    audit_settings: &AuditSettings,
+    ingest_settings: &IngestSettings,
+    progress: ingest::FileProgress<'_>,
+) -> Result<AuditDocument, Error> {
     let started = std::time::Instant::now();
-    let outcome = ingest::read_paths_reporting(paths, ingest_settings, progress)?;
+    let outcome = ingest::read_discovered(discovery, ingest_settings, progress)?;
     crate::timing::phase("ingest", started);
-    Ok(audit_outcome(outcome, audit_settings, ingest_settings))
+    audit_outcome(outcome, audit_settings, ingest_settings)
 }
 
 /// Reads and audits the given sources (files or in-memory logs).
@@ -64,5 +75,5 @@ pub fn audit_sources(
     ingest_settings: &IngestSettings,
 ) -> Result<AuditDocument, Error> {
     let outcome = ingest::read_sources(sources, ingest_settings)?;
-    Ok(audit_outcome(outcome, audit_settings, ingest_settings))
+    audit_outcome(outcome, audit_settings, ingest_settings)
 }

@@ -79,7 +79,16 @@ pub fn prepare_paths(
     limits: StreamLimits,
     progress: FileProgress<'_>,
 ) -> Result<PreparedAudit<'static>, Error> {
-    let discovery = ingest::discover(paths)?;
+    prepare_discovered(&ingest::discover(paths)?, settings, limits, progress)
+}
+
+/// The first pass over the logs `discovery` found.
+pub fn prepare_discovered(
+    discovery: &ingest::Discovery,
+    settings: &IngestSettings,
+    limits: StreamLimits,
+    progress: FileProgress<'_>,
+) -> Result<PreparedAudit<'static>, Error> {
     let sources: Vec<LogSource<'static>> = discovery
         .logs
         .iter()
@@ -88,7 +97,7 @@ pub fn prepare_paths(
     let mut prepared = prepare(&sources, settings, limits, progress)?;
     prepared
         .skipped_files
-        .extend(ingest::not_log_files(&discovery));
+        .extend(ingest::not_log_files(discovery));
     Ok(prepared)
 }
 
@@ -172,6 +181,12 @@ impl PreparedAudit<'_> {
     /// Runs that will be audited.
     pub fn runs(&self) -> usize {
         self.runs
+    }
+
+    /// Checks that the audit settings fit the runs (see [`AuditScope::check`]);
+    /// call it before writing anything.
+    pub fn check(&self, audit_settings: &AuditSettings) -> Result<(), Error> {
+        self.scope.check(audit_settings)
     }
 
     /// The second pass: audits every run, batch by batch in input order, handing each

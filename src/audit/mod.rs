@@ -21,6 +21,7 @@ pub use result::{GateResult, RunResult, Summary, Verdict};
 
 pub use settings::{AuditSettings, Gate, HoldoutBound};
 
+use crate::error::Error;
 use crate::run::RunInput;
 use crate::theory::growth::Family;
 use crate::theory::vc;
@@ -71,6 +72,23 @@ impl AuditScope {
         }
     }
 
+    /// Settings that contradict the runs: `--same-holdout` declares one shared split,
+    /// and runs that name several splits say otherwise.
+    pub fn check(&self, settings: &AuditSettings) -> Result<(), Error> {
+        if settings.same_holdout && self.sharing.len() > 1 {
+            let mut names: Vec<&str> = self.sharing.keys().map(String::as_str).collect();
+            names.sort_unstable();
+            let shown = names.len().min(5);
+            return Err(Error::Usage(format!(
+                "--same-holdout declares that every run was compared on one held-out split, but the logs name {} splits ({}{}); drop --same-holdout and holdout_set sets K split by split",
+                names.len(),
+                names[..shown].join(", "),
+                if names.len() > shown { ", …" } else { "" }
+            )));
+        }
+        Ok(())
+    }
+
     /// δ after the family-wise (Bonferroni) division, when asked for.
     pub fn delta(&self, settings: &AuditSettings) -> f64 {
         let delta = settings.delta();
@@ -117,6 +135,17 @@ pub fn audit_runs(inputs: &[RunInput], settings: &AuditSettings) -> Vec<RunResul
 pub fn audit_runs_owned(inputs: Vec<RunInput>, settings: &AuditSettings) -> Vec<RunResult> {
     let scope = AuditScope::of(&inputs);
     Auditor::new(&scope, settings).audit(inputs)
+}
+
+/// [`audit_runs_owned`], after checking that the settings fit the runs
+/// ([`AuditScope::check`]).
+pub fn audit_runs_checked(
+    inputs: Vec<RunInput>,
+    settings: &AuditSettings,
+) -> Result<Vec<RunResult>, Error> {
+    let scope = AuditScope::of(&inputs);
+    scope.check(settings)?;
+    Ok(Auditor::new(&scope, settings).audit(inputs))
 }
 
 /// Audits batches of runs against one [`AuditScope`]. The solutions that many runs

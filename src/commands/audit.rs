@@ -4,17 +4,15 @@ use std::io::{self, IsTerminal, Write};
 use std::path::{Path, PathBuf};
 
 use gapcert::audit::{GateResult, RunResult};
-use gapcert::ingest::{SkippedFile, SkippedRow};
+use gapcert::ingest::{Discovery, FileIdentity, SkippedFile, SkippedRow};
 use gapcert::pipeline::StreamLimits;
 use gapcert::report::text::printable;
-use gapcert::report::{self, AuditDocument, OutputFormat};
+use gapcert::report::{self, AuditDocument, OutputFormat, Presentation};
 use gapcert::Error;
 
 use super::outcome::Outcome;
 use super::settings::{resolve_audit, AuditRequest};
-use super::terminal::{
-    check_destination, stdout_terminal, write_file, write_stdout, Progress, Terminal,
-};
+use super::terminal::{check_outputs, write_file, write_stdout, Progress, Terminal};
 use crate::cli::AuditFlags;
 
 /// Where an audit's logs come from.
@@ -28,14 +26,34 @@ pub enum SourceSpec {
 /// Reads and audits the logs, writes every output asked for, and applies the gate.
 pub fn run(spec: &SourceSpec, flags: &AuditFlags, terminal: Terminal) -> Result<Outcome, Error> {
     let request = resolve_audit(flags)?;
-    // Check every destination before writing any, so a failing command leaves no
-    // output file behind.
-    for path in [&flags.output, &flags.certificate, &flags.html]
-        .into_iter()
-        .flatten()
-    {
-        check_destination(path)?;
-    }
+    // The logs are found (not read) first, so that every destination can be checked
+    // against them before anything is read or written.
+    let discovery = match spec {
+        SourceSpec::Paths(paths) => Some(gapcert::ingest::discover(paths)?),
+        SourceSpec::Demo => None,
+    };
+    let mut inputs: Vec<(&Path, Option<FileIdentity>)> = discovery
+        .iter()
+        .flat_map(|d| d.logs.iter().map(|log| (log.path.as_path(), log.identity)))
+        .collect();
+    let map_file_identity = flags
+        .map_file
+        .as_deref()
+        .and_then(|path| std::fs::metadata(path).ok().map(|m| (path, FileIdentity::of(&m))));
+    inputs.extend(map_file_identity);
+    let outputs: Vec<(&str, &Path)> = [
+        ("--output", flags.output.as_deref()),
+        ("--certificate", flags.certificate.as_deref()),
+        ("--html", flags.html.as_deref()),
+    ]
+    .into_iter()
+    .filter_map(|(flag, path)| path.map(|path| (flag, path)))
+    .collect();
+    check_outputs(&outputs, &inputs)?;
+    let spec = match (&discovery, spec) {
+        (Some(discovery), _) => Source::Found(discovery),
+        (None, _) => Source::Demo,
+    };
     if request.format.is_binary() && flags.output.is_none() && io::stdout().is_terminal() {
         return Err(Error::Usage(
             "--format parquet writes binary data: add --output FILE (or redirect standard output)"
@@ -43,17 +61,23 @@ pub fn run(spec: &SourceSpec, flags: &AuditFlags, terminal: Terminal) -> Result<
         ));
     }
     let gate = if request.format.streams() && flags.html.is_none() && flags.certificate.is_none() {
-        run_streaming(spec, flags, &request, terminal)?
+        run_streaming(&spec, flags, &request, terminal)?
     } else {
-        run_in_memory(spec, flags, &request, terminal)?
+        run_in_memory(&spec, flags, &request, terminal)?
     };
-    Ok(outcome(gate, spec, &request))
+    Ok(outcome(gate, &spec, &request))
+}
+
+/// The logs of an audit, found.
+enum Source<'a> {
+    Found(&'a Discovery),
+    Demo,
 }
 
 /// The exit code's outcome: the gate decides, except for a demo without `--gate`.
-fn outcome(gate: GateResult, spec: &SourceSpec, request: &AuditRequest) -> Outcome {
+fn outcome(gate: GateResult, spec: &Source, request: &AuditRequest) -> Outcome {
     match (spec, gate) {
-        (SourceSpec::Demo, _) if !request.gate_given => Outcome::Pass,
+        (Source::Demo, _) if !request.gate_given => Outcome::Pass,
         (_, GateResult::Pass) => Outcome::Pass,
         (_, GateResult::Fail) => Outcome::Fail,
     }
@@ -62,20 +86,20 @@ fn outcome(gate: GateResult, spec: &SourceSpec, request: &AuditRequest) -> Outco
 /// An audit held in memory as one document (every format but streamed JSON lines
 /// and CSV).
 fn run_in_memory(
-    spec: &SourceSpec,
+    spec: &Source,
     flags: &AuditFlags,
     request: &AuditRequest,
     terminal: Terminal,
 ) -> Result<GateResult, Error> {
     let progress = Progress::start(terminal, "reading logs");
     let result = match spec {
-        SourceSpec::Paths(paths) => gapcert::audit_paths_reporting(
-            paths,
+        Source::Found(discovery) => gapcert::audit_discovered(
+            discovery,
             &request.audit,
             &request.ingest,
             &|done, total| progress.file_read(done, total),
         ),
-        SourceSpec::Demo => {
+        Source::Demo => {
             gapcert::audit_sources(&gapcert::demo::sources(), &request.audit, &request.ingest)
         }
     };
@@ -85,8 +109,12 @@ fn run_in_memory(
 
     if let Some(path) = &flags.certificate {
         let paths: Vec<String> = match spec {
-            SourceSpec::Paths(paths) => paths.iter().map(|p| p.display().to_string()).collect(),
-            SourceSpec::Demo => Vec::new(),
+            Source::Found(discovery) => discovery
+                .given
+                .iter()
+                .map(|p| p.display().to_string())
+                .collect(),
+            Source::Demo => Vec::new(),
         };
         gapcert::certificate::write_certificate(path, &doc, &paths)?;
     }
@@ -94,7 +122,13 @@ fn run_in_memory(
         write_file(path, |out| report::html::write_html(&doc, out))?;
     }
     let started = std::time::Instant::now();
-    emit_report(&doc, request.format, flags.output.as_deref(), terminal)?;
+    emit_report(
+        &doc,
+        request.format,
+        flags.output.as_deref(),
+        &request.presentation,
+        terminal,
+    )?;
     gapcert::timing::phase("write", started);
     Ok(doc.summary.gate)
 }
@@ -103,17 +137,20 @@ fn emit_report(
     doc: &AuditDocument,
     format: OutputFormat,
     output: Option<&Path>,
+    presentation: &Presentation,
     terminal: Terminal,
 ) -> Result<(), Error> {
     match output {
         Some(path) => write_file(path, |out| {
-            report::write_report(doc, format, out, false, None)
+            let plain = Presentation {
+                color: false,
+                width: None,
+                ..presentation.clone()
+            };
+            report::write_report(doc, format, out, &plain)
         }),
         None if terminal.quiet => Ok(()),
-        None => {
-            let (color, width) = stdout_terminal();
-            write_stdout(|out| report::write_report(doc, format, out, color, width))
-        }
+        None => write_stdout(|out| report::write_report(doc, format, out, presentation)),
     }
 }
 
@@ -142,7 +179,7 @@ fn list_skipped(terminal: Terminal, files: &[SkippedFile], rows: &[SkippedRow]) 
 /// ([`gapcert::pipeline`]), so memory stays bounded and the output is the same as the
 /// in-memory audit's.
 fn run_streaming(
-    spec: &SourceSpec,
+    spec: &Source,
     flags: &AuditFlags,
     request: &AuditRequest,
     terminal: Terminal,
@@ -153,10 +190,10 @@ fn run_streaming(
     let report_file = |done, total| progress.file_read(done, total);
     let demo_sources;
     let prepared = match spec {
-        SourceSpec::Paths(paths) => {
-            gapcert::pipeline::prepare_paths(paths, &request.ingest, limits, &report_file)
+        Source::Found(discovery) => {
+            gapcert::pipeline::prepare_discovered(discovery, &request.ingest, limits, &report_file)
         }
-        SourceSpec::Demo => {
+        Source::Demo => {
             demo_sources = gapcert::demo::sources();
             gapcert::pipeline::prepare(&demo_sources, &request.ingest, limits, &report_file)
         }
@@ -168,6 +205,10 @@ fn run_streaming(
             return Err(error);
         }
     };
+    if let Err(error) = prepared.check(&request.audit) {
+        progress.finish();
+        return Err(error);
+    }
     list_skipped(terminal, &prepared.skipped_files, &prepared.skipped_rows);
     progress.auditing(prepared.runs());
     let started = std::time::Instant::now();

@@ -2,13 +2,14 @@
 //! (`gapcert::options`): the one resolution step of every command. Nothing after this
 //! reads a raw flag.
 
-use gapcert::audit::{AuditSettings, Gate, HoldoutBound};
+use gapcert::audit::{AuditSettings, Gate, HoldoutBound, Verdict};
 use gapcert::ingest::IngestSettings;
 use gapcert::options::AuditOptions;
-use gapcert::report::OutputFormat;
+use gapcert::report::{OutputFormat, Presentation};
 use gapcert::Error;
 
-use crate::cli::{AuditFlags, BoundArg, GateArg, ReportFormatArg, SimpleFormatArg};
+use super::terminal::stdout_terminal;
+use crate::cli::{AuditFlags, BoundArg, GateArg, ReportFormatArg, SimpleFormatArg, VerdictArg};
 
 /// An audit's settings, resolved from its flags.
 pub struct AuditRequest {
@@ -17,6 +18,8 @@ pub struct AuditRequest {
     pub format: OutputFormat,
     /// Whether `--gate` was given (the demo exits 0 without it).
     pub gate_given: bool,
+    /// How the table, Markdown and HTML present the runs.
+    pub presentation: Presentation,
 }
 
 /// Checks the audit flags.
@@ -49,7 +52,30 @@ pub fn resolve_audit(flags: &AuditFlags) -> Result<AuditRequest, Error> {
         ingest,
         format: report_format(flags.format),
         gate_given: flags.gate.is_some(),
+        presentation: presentation(flags),
     })
+}
+
+/// Colours and width of standard output (colours only on a terminal without
+/// `NO_COLOR`; the width from `COLUMNS` when set, else the terminal's), and the
+/// runs `--only` and `--top` choose.
+fn presentation(flags: &AuditFlags) -> Presentation {
+    let (color, width) = stdout_terminal();
+    Presentation {
+        color,
+        width,
+        only: flags
+            .only
+            .iter()
+            .map(|verdict| match verdict {
+                VerdictArg::Certified => Verdict::Certified,
+                VerdictArg::Unproven => Verdict::Unproven,
+                VerdictArg::Refuted => Verdict::Refuted,
+                VerdictArg::NoClaim => Verdict::NoClaim,
+            })
+            .collect(),
+        top: flags.top,
+    }
 }
 
 /// `--format` of audits.

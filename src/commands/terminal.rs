@@ -7,6 +7,7 @@ use std::path::Path;
 use std::time::Duration;
 
 use gapcert::error::describe_io_error;
+use gapcert::ingest::FileIdentity;
 use gapcert::report::{self, OutputFormat, View};
 use gapcert::Error;
 use indicatif::{ProgressBar, ProgressDrawTarget, ProgressStyle};
@@ -61,6 +62,61 @@ pub fn check_destination(path: &Path) -> Result<(), Error> {
     Ok(())
 }
 
+/// Checks every output of a command before anything is read or written: each can be
+/// created ([`check_destination`]), none is one of the inputs (the same file on disk,
+/// whatever links or spellings lead to it), and no two are the same file. `outputs`
+/// are (flag, path); `inputs` the files the command will read.
+pub fn check_outputs(outputs: &[(&str, &Path)], inputs: &[(&Path, Option<FileIdentity>)]) -> Result<(), Error> {
+    for (flag, path) in outputs {
+        check_destination(path)?;
+        if let Ok(metadata) = std::fs::metadata(path) {
+            if let Some(identity) = FileIdentity::of(&metadata) {
+                if let Some((input, _)) = inputs.iter().find(|(_, id)| *id == Some(identity)) {
+                    return Err(Error::Usage(format!(
+                        "{flag} {}: that is the input {}, which the output would replace; write the output elsewhere (nothing was read or written)",
+                        path.display(),
+                        input.display()
+                    )));
+                }
+            }
+        }
+    }
+    for (index, (flag, path)) in outputs.iter().enumerate() {
+        for (other_flag, other) in &outputs[..index] {
+            if same_destination(path, other) {
+                return Err(Error::Usage(format!(
+                    "{other_flag} and {flag} both name {}: each output needs a file of its own (nothing was read or written)",
+                    path.display()
+                )));
+            }
+        }
+    }
+    Ok(())
+}
+
+/// Whether two output paths name one file: the same file on disk if both exist,
+/// otherwise the same name in the same (resolved) folder.
+fn same_destination(a: &Path, b: &Path) -> bool {
+    if let (Ok(first), Ok(second)) = (std::fs::metadata(a), std::fs::metadata(b)) {
+        if let (Some(first), Some(second)) = (FileIdentity::of(&first), FileIdentity::of(&second)) {
+            return first == second;
+        }
+    }
+    let resolved = |path: &Path| {
+        let folder = match path.parent() {
+            Some(parent) if !parent.as_os_str().is_empty() => parent,
+            _ => Path::new("."),
+        };
+        std::fs::canonicalize(folder)
+            .ok()
+            .map(|folder| folder.join(path.file_name().unwrap_or_default()))
+    };
+    match (resolved(a), resolved(b)) {
+        (Some(a), Some(b)) => a == b,
+        _ => a == b,
+    }
+}
+
 /// Writes a file atomically, naming it in any error.
 pub fn write_file<F>(path: &Path, write: F) -> Result<(), Error>
 where
@@ -101,18 +157,24 @@ pub fn print_view<V: View>(
     if terminal.quiet {
         return Ok(());
     }
-    write_stdout(|out| report::write_view(view, format, out))
+    let (_, width) = stdout_terminal();
+    write_stdout(|out| report::write_view(view, format, out, width))
 }
 
-/// Whether standard output is a terminal, and if so whether colours are wanted
-/// (`NO_COLOR` unset) and how wide it is.
+/// Whether colours are wanted on standard output (a terminal, `NO_COLOR` unset),
+/// and the width to fit: `COLUMNS` when it is set to a number (also when the output
+/// is piped: the user asked for that width), else the terminal's, else none.
 pub fn stdout_terminal() -> (bool, Option<u16>) {
+    let columns = std::env::var("COLUMNS")
+        .ok()
+        .and_then(|text| text.trim().parse::<u16>().ok())
+        .filter(|&width| width >= 20);
     if !io::stdout().is_terminal() {
-        return (false, None);
+        return (false, columns);
     }
     let color = std::env::var_os("NO_COLOR").is_none();
     // comfy-table asks the terminal for its size (stdout is the terminal here).
-    (color, comfy_table::Table::new().width())
+    (color, columns.or_else(|| comfy_table::Table::new().width()))
 }
 
 /// A spinner on stderr that appears only if the work takes more than about a second,

@@ -40,11 +40,41 @@ impl LogFormat {
 pub struct LogFile {
     pub path: PathBuf,
     pub format: LogFormat,
+    /// The file's identity on its file system, from the `stat` discovery made anyway
+    /// (None where the system has none): an output that would replace an input is
+    /// recognised by it, whatever links or spellings lead to either.
+    pub identity: Option<FileIdentity>,
+}
+
+/// Device and inode of a file.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
+pub struct FileIdentity {
+    pub device: u64,
+    pub inode: u64,
+}
+
+impl FileIdentity {
+    /// The identity of the file `metadata` describes.
+    #[cfg(unix)]
+    pub fn of(metadata: &std::fs::Metadata) -> Option<FileIdentity> {
+        use std::os::unix::fs::MetadataExt;
+        Some(FileIdentity {
+            device: metadata.dev(),
+            inode: metadata.ino(),
+        })
+    }
+
+    #[cfg(not(unix))]
+    pub fn of(_: &std::fs::Metadata) -> Option<FileIdentity> {
+        None
+    }
 }
 
 /// What discovery found: logs to read and files skipped inside folders.
 #[derive(Clone, Debug, Default, PartialEq, Eq)]
 pub struct Discovery {
+    /// The paths as given (files and folders), for the certificate.
+    pub given: Vec<PathBuf>,
     pub logs: Vec<LogFile>,
     pub skipped_files: Vec<PathBuf>,
 }
@@ -53,7 +83,10 @@ pub struct Discovery {
 /// order (so results do not depend on directory order); files of other types inside
 /// folders are skipped and counted; an explicit file of unknown type is an error.
 pub fn discover(paths: &[PathBuf]) -> Result<Discovery, Error> {
-    let mut discovery = Discovery::default();
+    let mut discovery = Discovery {
+        given: paths.to_vec(),
+        ..Discovery::default()
+    };
     let mut visited = HashSet::new();
     for path in paths {
         let metadata = std::fs::metadata(path).map_err(|error| {
@@ -76,6 +109,7 @@ pub fn discover(paths: &[PathBuf]) -> Result<Discovery, Error> {
                 Some(format) => discovery.logs.push(LogFile {
                     path: path.clone(),
                     format,
+                    identity: FileIdentity::of(&metadata),
                 }),
                 None => {
                     return Err(Error::Usage(format!(
@@ -134,6 +168,7 @@ fn walk(
             discovery.logs.push(LogFile {
                 path: child,
                 format,
+                identity: FileIdentity::of(&metadata),
             });
         } else {
             discovery.skipped_files.push(child);

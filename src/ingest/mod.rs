@@ -18,7 +18,7 @@ use rayon::prelude::*;
 use serde::{Deserialize, Serialize};
 use sha2::{Digest, Sha256};
 
-pub use discover::{discover, Discovery, LogFile, LogFormat};
+pub use discover::{discover, Discovery, FileIdentity, LogFile, LogFormat};
 pub use rows::SkippedRow;
 pub use settings::IngestSettings;
 
@@ -78,14 +78,22 @@ pub fn read_paths_reporting(
     settings: &IngestSettings,
     progress: FileProgress<'_>,
 ) -> Result<IngestOutcome, Error> {
-    let discovery = discover(paths)?;
+    read_discovered(&discover(paths)?, settings, progress)
+}
+
+/// Reads the logs `discovery` found, reporting each file read to `progress`.
+pub fn read_discovered(
+    discovery: &Discovery,
+    settings: &IngestSettings,
+    progress: FileProgress<'_>,
+) -> Result<IngestOutcome, Error> {
     let sources: Vec<LogSource> = discovery
         .logs
         .iter()
         .map(|log| LogSource::Path(log.path.clone(), log.format))
         .collect();
     let mut outcome = read_sources_reporting(&sources, settings, progress)?;
-    outcome.skipped_files.extend(not_log_files(&discovery));
+    outcome.skipped_files.extend(not_log_files(discovery));
     Ok(outcome)
 }
 
@@ -318,6 +326,7 @@ impl<'a> OpenedLog<'a> {
             ));
         }
         let started = std::time::Instant::now();
+        let mut scale = rows::ScaleEvidence::default();
         // A Parquet range is a whole row group, which may hold far more than
         // `batch_rows` rows: it is decoded once and validated in slices.
         let batch_rows = batch_rows.max(1);
@@ -342,6 +351,7 @@ impl<'a> OpenedLog<'a> {
                     rows::table_runs(&self.label, &slice, offset + start, settings, problems);
                 report.bad_rows.extend(batch.bad_rows);
                 report.file_problems.extend(batch.file_problems);
+                scale.add(batch.scale);
                 if !report.file_problems.is_empty() {
                     break 'ranges;
                 }
@@ -355,6 +365,12 @@ impl<'a> OpenedLog<'a> {
             }
         }
         crate::timing::phase("  validate", started);
+        if settings.percent && scale.values > 0 && !scale.above_one && report.file_problems.is_empty() {
+            report.file_problems.push(Problem::file(
+                &self.label,
+                "every rate, accuracy and claim in this file lies within [0, 1], so it holds fractions, but --percent reads them as percentages (0.94 would mean 0.94 %); drop --percent for this file",
+            ));
+        }
         report
     }
 }

@@ -36,7 +36,34 @@ pub struct TableRuns {
     pub bad_rows: Vec<(usize, Vec<Problem>)>,
     /// Problems that concern the whole file (a missing required column).
     pub file_problems: Vec<Problem>,
+    /// Rates, accuracies and claims seen, and whether any was above 1 (for the check
+    /// that a file read with `--percent` holds percentages).
+    pub scale: ScaleEvidence,
 }
+
+/// What a file's rate, accuracy and claim cells say about their scale.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
+pub struct ScaleEvidence {
+    pub values: usize,
+    pub above_one: bool,
+}
+
+impl ScaleEvidence {
+    pub fn add(&mut self, other: ScaleEvidence) {
+        self.values += other.values;
+        self.above_one |= other.above_one;
+    }
+}
+
+/// The rate, accuracy and claim columns, whose scale `--percent` sets.
+const SCALED_COLUMNS: [&str; 6] = [
+    "train_error_rate",
+    "train_accuracy",
+    "holdout_error_rate",
+    "holdout_accuracy",
+    "claimed_accuracy",
+    "claimed_error_rate",
+];
 
 /// When a delimited file was read as one column whose name holds another separator
 /// (a semicolon-separated export saved as `.csv`), says so: otherwise the only
@@ -107,6 +134,7 @@ pub fn table_runs(
             runs: Vec::new(),
             bad_rows: Vec::new(),
             file_problems,
+            scale: ScaleEvidence::default(),
         };
     }
 
@@ -175,6 +203,7 @@ pub fn table_runs(
             runs: Vec::new(),
             bad_rows: Vec::new(),
             file_problems,
+            scale: ScaleEvidence::default(),
         };
     }
     let names: Vec<String> = super::columns::CANONICAL_COLUMNS
@@ -194,6 +223,16 @@ pub fn table_runs(
         columns,
         names,
     };
+
+    let mut scale = ScaleEvidence::default();
+    for canonical in SCALED_COLUMNS {
+        if let Some(ColumnCells::Float(cells)) = table.columns.get(slot(canonical)) {
+            for value in cells.iter().flatten() {
+                scale.values += 1;
+                scale.above_one |= *value > 1.0;
+            }
+        }
+    }
 
     // Problems found while typing cells, grouped by row.
     let mut row_problems: Vec<Vec<Problem>> = vec![Vec::new(); height];
@@ -224,6 +263,7 @@ pub fn table_runs(
         runs,
         bad_rows,
         file_problems,
+        scale,
     }
 }
 

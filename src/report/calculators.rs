@@ -3,17 +3,25 @@
 
 use std::io::{self, Write};
 
-use super::text::group_thousands;
+use super::text::{group_thousands, wrap};
 use super::View;
 use crate::calculators::{FamilyList, GrowthTable, HoldoutPlan, TrainPlan};
 use crate::certificate::Verification;
 
 impl View for HoldoutPlan {
-    fn write_text(&self, out: &mut dyn Write) -> io::Result<()> {
-        let show = |n: Option<u64>| {
-            n.map(group_thousands)
-                .unwrap_or_else(|| "never (the error rate is not below the claim)".into())
-        };
+    fn write_text(&self, out: &mut dyn Write, _width: Option<u16>) -> io::Result<()> {
+        if self.error_rate >= self.claim_error_rate {
+            return writeln!(
+                out,
+                "An observed error rate of {} is not below the claimed error {} (accuracy {}): no held-out set, however large, can certify the claim, by the exact binomial bound or by Hoeffding's. Either the error rate must fall below {}, or the claimed accuracy must come down below {}.",
+                self.error_rate,
+                self.claim_error_rate,
+                self.claim_accuracy,
+                self.claim_error_rate,
+                crate::decimal::complement(self.error_rate)
+            );
+        }
+        let show = |n: Option<u64>| n.map(group_thousands).unwrap_or_else(|| "—".into());
         writeln!(
             out,
             "To certify accuracy ≥ {} (error ≤ {}) at an observed error rate of {} with confidence {} and {} candidate(s) compared (δ/K = {:.3e}):",
@@ -38,7 +46,7 @@ impl View for HoldoutPlan {
 }
 
 impl View for TrainPlan {
-    fn write_text(&self, out: &mut dyn Write) -> io::Result<()> {
+    fn write_text(&self, out: &mut dyn Write, _width: Option<u16>) -> io::Result<()> {
         match (self.train_needed, self.vc_allowance_at_train_needed) {
             (Some(n), Some(allowance)) => writeln!(
                 out,
@@ -62,7 +70,7 @@ impl View for TrainPlan {
 }
 
 impl View for GrowthTable {
-    fn write_text(&self, out: &mut dyn Write) -> io::Result<()> {
+    fn write_text(&self, out: &mut dyn Write, _width: Option<u16>) -> io::Result<()> {
         let mut table = comfy_table::Table::new();
         table
             .load_preset(comfy_table::presets::UTF8_FULL_CONDENSED)
@@ -96,7 +104,39 @@ impl View for GrowthTable {
 }
 
 impl View for FamilyList {
-    fn write_text(&self, out: &mut dyn Write) -> io::Result<()> {
+    /// A table when it fits `width` (or without a width), otherwise one block per
+    /// family with its lines wrapped at spaces, so no word is ever split.
+    fn write_text(&self, out: &mut dyn Write, width: Option<u16>) -> io::Result<()> {
+        let closing = "Any other family key: no growth bound (finding theory_unavailable); the held-out bounds are still computed.";
+        let table_width = self
+            .families
+            .iter()
+            .map(|f| {
+                f.key.len()
+                    + f.parameters.join(", ").len()
+                    + f.growth.len()
+                    + f.vc_dim.len()
+                    + f.source.len()
+                    + 16
+            })
+            .max()
+            .unwrap_or(0);
+        if let Some(width) = width.filter(|&w| usize::from(w) < table_width) {
+            let width = Some(width);
+            for f in &self.families {
+                let parameters = if f.parameters.is_empty() {
+                    "no parameters".to_string()
+                } else {
+                    format!("parameters: {}", f.parameters.join(", "))
+                };
+                writeln!(out, "{}", wrap(&format!("{} ({parameters})", f.key), width, "", "  "))?;
+                writeln!(out, "{}", wrap(f.growth, width, "  m_H(N) = ", "      "))?;
+                writeln!(out, "{}", wrap(f.vc_dim, width, "  VC dimension: ", "      "))?;
+                writeln!(out, "{}", wrap(f.source, width, "  source: ", "      "))?;
+                writeln!(out)?;
+            }
+            return writeln!(out, "{}", wrap(closing, width, "", ""));
+        }
         let mut table = comfy_table::Table::new();
         table
             .load_preset(comfy_table::presets::UTF8_FULL_CONDENSED)
@@ -118,12 +158,12 @@ impl View for FamilyList {
             ]);
         }
         writeln!(out, "{table}")?;
-        writeln!(out, "Any other family key: no growth bound (finding theory_unavailable); the held-out bounds are still computed.")
+        writeln!(out, "{closing}")
     }
 }
 
 impl View for Verification {
-    fn write_text(&self, out: &mut dyn Write) -> io::Result<()> {
+    fn write_text(&self, out: &mut dyn Write, _width: Option<u16>) -> io::Result<()> {
         if self.drift.is_empty() {
             writeln!(
                 out,

@@ -1,12 +1,19 @@
-//! Markdown for a pull-request comment: a summary and a table.
+//! Markdown for a pull-request comment: a summary, a table of the runs shown, and
+//! why each got its verdict (the explanation and the findings in words).
 
 use std::io::{self, Write};
 
 use super::document::AuditDocument;
 use super::escape::escape_markdown;
-use super::text::{group_thousands, percent, sorted_worst_first, summary_line};
+use super::text::{
+    group_thousands, left_out_line, percent, shown_runs, summary_line, Presentation,
+};
 
-pub fn write_markdown(doc: &AuditDocument, out: &mut dyn Write) -> io::Result<()> {
+pub fn write_markdown(
+    doc: &AuditDocument,
+    out: &mut dyn Write,
+    presentation: &Presentation,
+) -> io::Result<()> {
     let s = &doc.summary;
     let badge = match s.gate {
         crate::audit::GateResult::Pass => "passes",
@@ -16,34 +23,37 @@ pub fn write_markdown(doc: &AuditDocument, out: &mut dyn Write) -> io::Result<()
     writeln!(out)?;
     writeln!(out, "{}", escape_markdown(&summary_line(doc)))?;
     writeln!(out)?;
-    writeln!(
-        out,
-        "| verdict | run | held-out error | interval ({}) | claim | upper bound | VC allowance | held-out needed | findings |",
-        doc.settings.holdout_bound.as_str()
-    )?;
-    writeln!(out, "|---|---|---:|---:|---:|---:|---:|---:|---|")?;
-    for run in sorted_worst_first(&doc.runs) {
+    let (shown, left_out) = shown_runs(&doc.runs, presentation);
+    if !shown.is_empty() {
+        writeln!(
+            out,
+            "| verdict | run | held-out error | claimed accuracy | K | lower bound | upper bound | certifiable accuracy | interval ({}) | held-out needed | findings |",
+            doc.settings.holdout_bound.as_str()
+        )?;
+        writeln!(out, "|---|---|---:|---:|---:|---:|---:|---:|---:|---:|---|")?;
+    }
+    for run in &shown {
         let interval = match doc.settings.holdout_bound {
             crate::audit::HoldoutBound::Binomial => run.binomial_interval,
             crate::audit::HoldoutBound::Hoeffding => run.hoeffding_interval,
         };
         writeln!(
             out,
-            "| {} | {} | {} ({}/{}) | {} – {} | {} | {} | {} | {} | {} |",
+            "| {} | {} | {} ({}/{}) | {} | {} | {} | {} | {} | {}–{} | {} | {} |",
             run.verdict.as_str(),
             escape_markdown(&run.run),
             percent(run.holdout_error_rate),
             run.holdout_misclassified,
             run.holdout_n,
+            run.claim_error_rate
+                .map(|c| percent(1.0 - c))
+                .unwrap_or_else(|| "—".into()),
+            group_thousands(run.candidates),
+            percent(run.error_lower_bound),
+            percent(run.error_upper_bound),
+            percent(run.certifiable_accuracy),
             percent(interval[0]),
             percent(interval[1]),
-            run.claim_error_rate
-                .map(percent)
-                .unwrap_or_else(|| "—".into()),
-            percent(run.error_upper_bound),
-            run.vc_allowance
-                .map(|a| format!("{a:.3}"))
-                .unwrap_or_else(|| "—".into()),
             run.holdout_needed
                 .map(group_thousands)
                 .unwrap_or_else(|| "—".into()),
@@ -53,6 +63,37 @@ pub fn write_markdown(doc: &AuditDocument, out: &mut dyn Write) -> io::Result<()
                 .collect::<Vec<_>>()
                 .join(", "),
         )?;
+    }
+    if let Some(line) = left_out_line(shown.len(), left_out, presentation) {
+        writeln!(out)?;
+        writeln!(out, "{}", escape_markdown(&line))?;
+    }
+    if !shown.is_empty() {
+        writeln!(out)?;
+        writeln!(out, "**Why each verdict**")?;
+        writeln!(out)?;
+        let settings = doc.settings.audit_settings();
+        for run in &shown {
+            writeln!(
+                out,
+                "- **{}**: {}",
+                escape_markdown(&run.run),
+                escape_markdown(&run.explanation)
+            )?;
+            for finding in &run.findings {
+                let message = if finding.message.is_empty() {
+                    crate::audit::explain::finding_message(run, finding.code, &settings)
+                } else {
+                    finding.message.clone()
+                };
+                writeln!(
+                    out,
+                    "  - `{}`: {}",
+                    finding.code.as_str(),
+                    escape_markdown(&message)
+                )?;
+            }
+        }
     }
     writeln!(out)?;
     for caution in &doc.cautions {

@@ -18,6 +18,7 @@ use serde::Serialize;
 
 pub use atomic::{remove_temporaries, write_atomically};
 pub use document::{AuditDocument, DocumentSettings, ToolInfo, CAUTIONS};
+pub use text::Presentation;
 
 /// Every output format, for every command. Audits write all of them; the calculators
 /// and `verify` write [`OutputFormat::Table`] and [`OutputFormat::Json`].
@@ -56,36 +57,42 @@ impl OutputFormat {
     }
 }
 
-/// Writes the document in `format`. `color` and `width` (the terminal's) matter only
-/// to the table.
+/// Writes the document in `format`. `presentation` matters only to the
+/// human-readable formats (table, Markdown): which runs they show, and the table's
+/// colours and width.
 pub fn write_report(
     doc: &AuditDocument,
     format: OutputFormat,
     out: &mut dyn Write,
-    color: bool,
-    width: Option<u16>,
+    presentation: &Presentation,
 ) -> io::Result<()> {
     match format {
-        OutputFormat::Table => table::write_table(doc, out, color, width),
+        OutputFormat::Table => table::write_table(doc, out, presentation),
         OutputFormat::Json => write_json(doc, out),
         OutputFormat::Ndjson => flat::write_ndjson(&doc.runs, out),
         OutputFormat::Csv => flat::write_csv(&doc.runs, out),
         OutputFormat::Parquet => flat::write_parquet(&doc.runs, out),
-        OutputFormat::Markdown => markdown::write_markdown(doc, out),
+        OutputFormat::Markdown => markdown::write_markdown(doc, out, presentation),
     }
 }
 
 /// A result other than an audit (a calculator's, `verify`'s): JSON is the value
 /// serialised, text is [`View::write_text`].
 pub trait View: Serialize {
-    /// The human-readable form (`--format table`).
-    fn write_text(&self, out: &mut dyn Write) -> io::Result<()>;
+    /// The human-readable form (`--format table`), fitted to `width` columns when
+    /// given.
+    fn write_text(&self, out: &mut dyn Write, width: Option<u16>) -> io::Result<()>;
 }
 
 /// Writes `view` in `format` (table or JSON; the per-run formats have no rows here).
-pub fn write_view<V: View>(view: &V, format: OutputFormat, out: &mut dyn Write) -> io::Result<()> {
+pub fn write_view<V: View>(
+    view: &V,
+    format: OutputFormat,
+    out: &mut dyn Write,
+    width: Option<u16>,
+) -> io::Result<()> {
     match format {
-        OutputFormat::Table => view.write_text(out),
+        OutputFormat::Table => view.write_text(out, width),
         // Through a JSON value, whose objects list their keys in alphabetical order:
         // the calculators' documents have always been written so.
         OutputFormat::Json => {

@@ -8,26 +8,36 @@ use comfy_table::{
 };
 
 use super::document::AuditDocument;
-use super::text::{group_thousands, percent, printable, sorted_worst_first, summary_line};
+use super::text::{
+    group_thousands, left_out_line, percent, printable, shown_runs, summary_line, wrap, Presentation,
+};
 use crate::audit::{RunResult, Verdict};
 
 /// Column indices of the table, in display order.
 const RUN: usize = 1;
-const INTERVAL: usize = 3;
-const VC_ALLOWANCE: usize = 6;
-const HOLDOUT_NEEDED: usize = 7;
-const TRAIN_NEEDED: usize = 8;
-const FINDINGS: usize = 9;
+const HOLDOUT_ERROR: usize = 2;
+const COMPARED: usize = 6;
+const ERRORS: usize = 7;
+const CERTIFIABLE: usize = 8;
+const HOLDOUT_NEEDED: usize = 9;
+const INTERVAL: usize = 10;
+const VC_ALLOWANCE: usize = 11;
+const TRAIN_NEEDED: usize = 12;
+const FINDINGS: usize = 13;
 
-/// The columns shown only when they fit, most useful first. The verdict, the run, its
-/// held-out error, the claim and the upper bound that decides the verdict always
-/// stay.
-const OPTIONAL_BY_PRIORITY: [usize; 5] = [
-    FINDINGS,
+/// The columns shown only when they fit, most useful first. The verdict, the run, the
+/// claimed accuracy and the two one-sided bounds that decide the verdict always stay.
+const OPTIONAL_BY_PRIORITY: [usize; 9] = [
+    HOLDOUT_ERROR,
+    COMPARED,
+    ERRORS,
+    CERTIFIABLE,
     HOLDOUT_NEEDED,
     INTERVAL,
     VC_ALLOWANCE,
     TRAIN_NEEDED,
+    // Last: the codes are also listed, with their sentences, under the table.
+    FINDINGS,
 ];
 
 /// Run names are kept whole up to this many characters before an optional column is
@@ -35,17 +45,40 @@ const OPTIONAL_BY_PRIORITY: [usize; 5] = [
 const RUN_COMFORTABLE_WIDTH: u16 = 16;
 const RUN_NARROWEST: u16 = 8;
 
-/// Renders the table; `color` only when writing to a terminal without `NO_COLOR`.
-/// `width` is the terminal's width (None when not writing to a terminal: then every
-/// column is printed at full width). On a narrower terminal, cells wrap at spaces,
-/// never inside a number, verdict or code; optional columns that do not fit that way
-/// are left out ([`OPTIONAL_BY_PRIORITY`]), and a line says which.
+/// The headers, in display order (`method` names the two-sided interval).
+pub fn headers(method: &str) -> [String; 14] {
+    [
+        "verdict".into(),
+        "run".into(),
+        "held-out error".into(),
+        "claimed accuracy".into(),
+        "lower bound".into(),
+        "upper bound".into(),
+        "K".into(),
+        "errors / examples".into(),
+        "certifiable accuracy".into(),
+        "held-out needed".into(),
+        format!("{method} interval"),
+        "VC allowance".into(),
+        "train needed".into(),
+        "findings".into(),
+    ]
+}
+
+/// Renders the table of the runs `presentation` shows, worst first, then why each
+/// run got its verdict (the explanation and the findings in words), the summary and
+/// the cautions. On a terminal narrower than the table (`presentation.width`), cells
+/// wrap at spaces, never inside a number, verdict or code; optional columns that do
+/// not fit are left out ([`OPTIONAL_BY_PRIORITY`]), and a line says which. Without a
+/// width every column is printed.
 pub fn write_table(
     doc: &AuditDocument,
     out: &mut dyn Write,
-    color: bool,
-    width: Option<u16>,
+    presentation: &Presentation,
 ) -> io::Result<()> {
+    let (shown, left_out) = shown_runs(&doc.runs, presentation);
+    let color = presentation.color;
+    let width = presentation.width;
     let mut table = Table::new();
     table
         .load_preset(presets::UTF8_FULL_CONDENSED)
@@ -53,23 +86,11 @@ pub fn write_table(
     if color {
         table.enforce_styling();
     }
-    let method = doc.settings.holdout_bound.as_str();
-    table.set_header(vec![
-        "verdict",
-        "run",
-        "held-out error",
-        &format!("{method} interval"),
-        "claim",
-        "upper bound",
-        "VC allowance",
-        "held-out needed",
-        "train needed",
-        "findings",
-    ]);
-    for run in sorted_worst_first(&doc.runs) {
+    table.set_header(headers(doc.settings.holdout_bound.as_str()).to_vec());
+    for run in &shown {
         table.add_row(row_cells(run, color, doc.settings.holdout_bound));
     }
-    for column in 2..9 {
+    for column in 2..13 {
         if let Some(c) = table.column_mut(column) {
             c.set_cell_alignment(CellAlignment::Right);
         }
@@ -77,19 +98,63 @@ pub fn write_table(
     let hidden = width
         .map(|width| fit_to_width(&mut table, width))
         .unwrap_or_default();
-    writeln!(out, "{table}")?;
+    if !shown.is_empty() {
+        writeln!(out, "{table}")?;
+    }
     if !hidden.is_empty() {
         writeln!(
             out,
-            "Left out to fit the terminal ({} columns): {}. A wider terminal, or --format markdown, csv or json, shows every column.",
-            width.unwrap_or_default(),
-            hidden.join(", ")
+            "{}",
+            wrap(
+                &format!(
+                    "Left out to fit the terminal ({} columns): {}. A wider terminal, or --format markdown, csv or json, shows every column.",
+                    width.unwrap_or_default(),
+                    hidden.join(", ")
+                ),
+                width,
+                "",
+                ""
+            )
         )?;
     }
-    writeln!(out, "{}", summary_line(doc))?;
+    if let Some(line) = left_out_line(shown.len(), left_out, presentation) {
+        writeln!(out, "{}", wrap(&line, width, "", ""))?;
+    }
+    if !shown.is_empty() {
+        writeln!(out)?;
+        writeln!(out, "Why:")?;
+        let settings = doc.settings.audit_settings();
+        for run in &shown {
+            let name = printable(&run.run);
+            writeln!(
+                out,
+                "{}",
+                wrap(&run.explanation, width, &format!("  {name}: "), "      ")
+            )?;
+            for finding in &run.findings {
+                let message = if finding.message.is_empty() {
+                    crate::audit::explain::finding_message(run, finding.code, &settings)
+                } else {
+                    finding.message.clone()
+                };
+                writeln!(
+                    out,
+                    "{}",
+                    wrap(
+                        &format!("{}: {}", finding.code.as_str(), printable(&message)),
+                        width,
+                        "    · ",
+                        "      "
+                    )
+                )?;
+            }
+        }
+    }
+    writeln!(out)?;
+    writeln!(out, "{}", wrap(&summary_line(doc), width, "", ""))?;
     writeln!(out)?;
     for caution in &doc.cautions {
-        writeln!(out, "  note: {caution}")?;
+        writeln!(out, "{}", wrap(caution, width, "  note: ", "        "))?;
     }
     Ok(())
 }
@@ -191,41 +256,30 @@ fn row_cells(run: &RunResult, color: bool, method: crate::audit::HoldoutBound) -
         crate::audit::HoldoutBound::Binomial => run.binomial_interval,
         crate::audit::HoldoutBound::Hoeffding => run.hoeffding_interval,
     };
+    let dash = || "—".to_string();
     vec![
         verdict,
         Cell::new(printable(&run.run)),
-        Cell::new(format!(
-            "{} ({}/{})",
-            percent(run.holdout_error_rate),
-            run.holdout_misclassified,
-            run.holdout_n
-        )),
-        Cell::new(format!(
-            "{} – {}",
-            percent(interval[0]),
-            percent(interval[1])
-        )),
+        Cell::new(percent(run.holdout_error_rate)),
         Cell::new(
             run.claim_error_rate
-                .map(percent)
-                .unwrap_or_else(|| "—".into()),
+                .map(|c| percent(1.0 - c))
+                .unwrap_or_else(dash),
         ),
+        Cell::new(percent(run.error_lower_bound)),
         Cell::new(percent(run.error_upper_bound)),
+        Cell::new(group_thousands(run.candidates)),
+        Cell::new(format!("{}/{}", run.holdout_misclassified, run.holdout_n)),
+        Cell::new(percent(run.certifiable_accuracy)),
+        Cell::new(run.holdout_needed.map(group_thousands).unwrap_or_else(dash)),
+        // No spaces: the interval never breaks across lines.
+        Cell::new(format!("{}–{}", percent(interval[0]), percent(interval[1]))),
         Cell::new(
             run.vc_allowance
                 .map(|a| format!("{a:.3}"))
-                .unwrap_or_else(|| "—".into()),
+                .unwrap_or_else(dash),
         ),
-        Cell::new(
-            run.holdout_needed
-                .map(group_thousands)
-                .unwrap_or_else(|| "—".into()),
-        ),
-        Cell::new(
-            run.train_needed
-                .map(group_thousands)
-                .unwrap_or_else(|| "—".into()),
-        ),
+        Cell::new(run.train_needed.map(group_thousands).unwrap_or_else(dash)),
         Cell::new(
             run.findings
                 .iter()
@@ -243,18 +297,9 @@ mod tests {
     use crate::ingest::IngestSettings;
 
     /// The demo's headers (the default binomial bound).
-    const ALL_HEADERS: [&str; 10] = [
-        "verdict",
-        "run",
-        "held-out error",
-        "binomial interval",
-        "claim",
-        "upper bound",
-        "VC allowance",
-        "held-out needed",
-        "train needed",
-        "findings",
-    ];
+    fn all_headers() -> [String; 14] {
+        headers("binomial")
+    }
 
     fn demo_table(width: Option<u16>) -> (AuditDocument, String) {
         let doc = crate::audit_sources(
@@ -264,7 +309,11 @@ mod tests {
         )
         .expect("the demo logs audit");
         let mut out = Vec::new();
-        write_table(&doc, &mut out, false, width).expect("writing to memory");
+        let presentation = Presentation {
+            width,
+            ..Presentation::default()
+        };
+        write_table(&doc, &mut out, &presentation).expect("writing to memory");
         (doc, String::from_utf8(out).expect("UTF-8"))
     }
 
@@ -278,15 +327,15 @@ mod tests {
     fn without_a_terminal_every_column_is_printed_on_one_line() {
         let (_, text) = demo_table(None);
         let header = table_lines(&text)[1];
-        for name in ALL_HEADERS {
-            assert!(header.contains(name), "{name} missing from {header}");
+        for name in all_headers() {
+            assert!(header.contains(name.as_str()), "{name} missing from {header}");
         }
         assert!(!text.contains("Left out"));
     }
 
     #[test]
     fn narrow_terminals_get_whole_words_and_a_note_of_what_is_left_out() {
-        for width in [60u16, 72, 80, 100, 120, 160] {
+        for width in [60u16, 72, 80, 100, 120, 160, 240] {
             let (doc, text) = demo_table(Some(width));
             let lines = table_lines(&text);
             for line in &lines {
@@ -327,8 +376,12 @@ mod tests {
                     first.contains(&percent(run.error_upper_bound)),
                     "{width}: {first}"
                 );
+                assert!(
+                    first.contains(&percent(run.error_lower_bound)),
+                    "{width}: {first}"
+                );
                 if let Some(claim) = run.claim_error_rate {
-                    assert!(first.contains(&percent(claim)), "{width}: {first}");
+                    assert!(first.contains(&percent(1.0 - claim)), "{width}: {first}");
                 }
             }
             // Every column is either in the header or named in the note, not both.
@@ -353,16 +406,24 @@ mod tests {
                     }
                 }
             }
-            let note = text.lines().find(|line| line.starts_with("Left out"));
-            for name in ALL_HEADERS {
-                let shown = headers.iter().any(|header| header == name);
-                let noted = note.is_some_and(|note| note.contains(name));
+            // The note may wrap: its lines up to the next blank line.
+            let note_text: Option<String> = text.find("Left out").map(|at| {
+                text[at..]
+                    .split("\n\n")
+                    .next()
+                    .unwrap_or("")
+                    .replace('\n', " ")
+            });
+            let note = note_text.as_deref();
+            for name in all_headers() {
+                let shown = headers.iter().any(|header| *header == name);
+                let noted = note.is_some_and(|note| note.contains(name.as_str()));
                 assert!(
                     shown != noted,
                     "{width} columns: {name} shown {shown}, noted {noted}\n{text}"
                 );
             }
-            if width >= 160 {
+            if width >= 240 {
                 assert!(note.is_none(), "{text}");
             }
         }

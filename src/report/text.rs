@@ -1,7 +1,7 @@
 //! Wording shared by the human-readable reports.
 
 use super::document::AuditDocument;
-use crate::audit::{GateResult, RunResult};
+use crate::audit::{GateResult, RunResult, Verdict};
 
 /// A rate as a percentage with two decimals ("3.25%").
 pub fn percent(rate: f64) -> String {
@@ -15,19 +15,107 @@ pub fn percent(rate: f64) -> String {
 /// the largest excess of the upper bound over the claim first.
 pub fn sorted_worst_first(runs: &[RunResult]) -> Vec<&RunResult> {
     let mut sorted: Vec<&RunResult> = runs.iter().collect();
-    sorted.sort_by(|a, b| {
-        a.verdict
-            .severity()
-            .cmp(&b.verdict.severity())
-            .then_with(|| {
-                let excess =
-                    |r: &RunResult| r.error_upper_bound - r.claim_error_rate.unwrap_or(1.0);
-                excess(b)
-                    .partial_cmp(&excess(a))
-                    .unwrap_or(std::cmp::Ordering::Equal)
-            })
-    });
+    sorted.sort_by(|a, b| worst_first(a, b));
     sorted
+}
+
+/// Wraps `text` to `width` columns (None: no wrapping), words whole, the first line
+/// after `first` and the others after `indent`; one string with line breaks.
+pub fn wrap(text: &str, width: Option<u16>, first: &str, indent: &str) -> String {
+    let Some(width) = width.map(usize::from) else {
+        return format!("{first}{text}");
+    };
+    let mut out = String::with_capacity(text.len() + 16);
+    let mut line = String::from(first);
+    let mut line_has_word = false;
+    for word in text.split(' ').filter(|w| !w.is_empty()) {
+        let needed = line.chars().count() + usize::from(line_has_word) + word.chars().count();
+        if line_has_word && needed > width {
+            out.push_str(&line);
+            out.push('\n');
+            line = String::from(indent);
+            line_has_word = false;
+        }
+        if line_has_word {
+            line.push(' ');
+        }
+        line.push_str(word);
+        line_has_word = true;
+    }
+    out.push_str(&line);
+    out
+}
+
+/// How a human-readable report (table, Markdown, HTML) presents the runs: which it
+/// shows, and for the table, the terminal's colours and width. The data formats
+/// (JSON, NDJSON, CSV, Parquet) always carry every run.
+#[derive(Clone, Debug, Default, PartialEq)]
+pub struct Presentation {
+    /// Colours (only on a terminal, without `NO_COLOR`).
+    pub color: bool,
+    /// The width to fit (the terminal's, or `COLUMNS`); None: no limit.
+    pub width: Option<u16>,
+    /// Show only runs with these verdicts (empty: all).
+    pub only: Vec<Verdict>,
+    /// Show at most this many runs, worst first (None: up to [`DEFAULT_SHOWN`]).
+    pub top: Option<usize>,
+}
+
+/// Runs a human-readable report lists when `--top` is not given: a larger audit is
+/// summarised and its worst runs are shown (a terminal table of 200,000 runs helps
+/// nobody and took seconds and a gigabyte to lay out).
+pub const DEFAULT_SHOWN: usize = 1000;
+
+/// The runs a human-readable report shows, worst first, and how many runs it leaves
+/// out (by `--only`, then by `--top` or [`DEFAULT_SHOWN`]).
+pub fn shown_runs<'a>(runs: &'a [RunResult], presentation: &Presentation) -> (Vec<&'a RunResult>, usize) {
+    let mut sorted: Vec<&RunResult> = if presentation.only.is_empty() {
+        runs.iter().collect()
+    } else {
+        runs.iter()
+            .filter(|r| presentation.only.contains(&r.verdict))
+            .collect()
+    };
+    let limit = presentation.top.unwrap_or(DEFAULT_SHOWN);
+    if sorted.len() > limit {
+        // Only the worst `limit` need sorting.
+        sorted.select_nth_unstable_by(limit, |a, b| worst_first(a, b));
+        sorted.truncate(limit);
+    }
+    sorted.sort_by(|a, b| worst_first(a, b));
+    let left_out = runs.len() - sorted.len();
+    (sorted, left_out)
+}
+
+/// The order of [`sorted_worst_first`].
+pub fn worst_first(a: &RunResult, b: &RunResult) -> std::cmp::Ordering {
+    a.verdict.severity().cmp(&b.verdict.severity()).then_with(|| {
+        let excess = |r: &RunResult| r.error_upper_bound - r.claim_error_rate.unwrap_or(1.0);
+        excess(b)
+            .partial_cmp(&excess(a))
+            .unwrap_or(std::cmp::Ordering::Equal)
+    })
+}
+
+/// "Showing the 1,000 worst of 200,000 runs (…)": said under a report that leaves
+/// runs out; None when it shows them all.
+pub fn left_out_line(shown: usize, left_out: usize, presentation: &Presentation) -> Option<String> {
+    if left_out == 0 {
+        return None;
+    }
+    let total = shown + left_out;
+    let only = if presentation.only.is_empty() {
+        String::new()
+    } else {
+        let names: Vec<&str> = presentation.only.iter().map(|v| v.as_str()).collect();
+        format!(" ({} only)", names.join(", "))
+    };
+    Some(format!(
+        "Showing {} of {} runs, worst first{only}; {} left out. --top N and --only VERDICTS choose what is shown; --format json, ndjson, csv or parquet carries every run.",
+        group_thousands(shown as u64),
+        group_thousands(total as u64),
+        group_thousands(left_out as u64)
+    ))
 }
 
 /// "24 runs: 9 certified, 5 unproven, 1 refuted, 9 without a claim. Gate (unproven): FAIL."
@@ -54,6 +142,17 @@ pub fn summary_line(doc: &AuditDocument) -> String {
         " Rows read: {} ({} audited, {} skipped).",
         s.rows_read, s.runs, s.rows_skipped
     ));
+    line.push_str(if doc.settings.percent {
+        " Rates and claims read as percentages."
+    } else {
+        " Rates and claims read as fractions."
+    });
+    if s.gate_findings > 0 {
+        line.push_str(&format!(
+            " {} run(s) fail the gate on a finding that suggests a slip (see their findings; --gate-allow CODE if intended).",
+            s.gate_findings
+        ));
+    }
     if s.files_skipped > 0 {
         line.push_str(&format!(" Files skipped: {}.", s.files_skipped));
     }
