@@ -51,7 +51,12 @@ pub fn audit_paths_reporting(
     ingest_settings: &IngestSettings,
     progress: ingest::FileProgress<'_>,
 ) -> Result<AuditDocument, Error> {
-    audit_discovered(&ingest::discover(paths)?, audit_settings, ingest_settings, progress)
+    audit_discovered(
+        &ingest::discover(paths)?,
+        audit_settings,
+        ingest_settings,
+        progress,
+    )
 }
 
 /// Reads and audits the logs `discovery` found (so that a caller can look at the

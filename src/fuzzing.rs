@@ -42,7 +42,8 @@ pub fn exercise(data: &[u8], format: LogFormat) {
                 OutputFormat::Markdown,
             ] {
                 let mut sink = Vec::new();
-                let _ = report::write_report(&doc, output, &mut sink, &report::Presentation::default());
+                let _ =
+                    report::write_report(&doc, output, &mut sink, &report::Presentation::default());
             }
             let mut sink = Vec::new();
             let _ = report::html::write_html(&doc, &mut sink);

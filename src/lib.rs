@@ -44,8 +44,6 @@ pub mod suggest;
 pub mod theory;
 pub mod timing;
 
-pub use api::{
-    audit_discovered, audit_outcome, audit_paths, audit_paths_reporting, audit_sources,
-};
+pub use api::{audit_discovered, audit_outcome, audit_paths, audit_paths_reporting, audit_sources};
 pub use error::{Error, Problem};
 pub use ingest::formats::install_panic_hook;

@@ -19,12 +19,13 @@ use std::sync::mpsc;
 
 use rayon::prelude::*;
 
-use crate::audit::{AuditScope, AuditSettings, Auditor, RunResult, Summary};
+use crate::audit::{AuditScope, AuditSettings, Auditor, RunResult, Summary, Verdict};
 use crate::error::Error;
 use crate::ingest::{
     self, Collected, FileProgress, IngestSettings, InputFile, LogSource, OpenedLog, SkippedFile,
     SkippedRow,
 };
+use crate::report::document::{AuditDocument, DocumentSettings, ToolInfo, CAUTIONS};
 use crate::run::RunInput;
 
 /// Batch sizes of the streaming audit.
@@ -300,5 +301,65 @@ impl PreparedAudit<'_> {
         summary.files_skipped = skipped_files.len();
         summary.apply_gate(audit_settings.gate);
         Ok(summary)
+    }
+}
+
+impl PreparedAudit<'_> {
+    /// Audits every run but keeps only the `keep` worst of those whose verdict is in
+    /// `only` (all when empty), in the order of [`crate::audit::result::worst_first`],
+    /// with their sentences written: the document of a human-readable report of a
+    /// long audit, whose summary still counts every run. Memory holds the runs of a
+    /// few batches and the ones kept, however many runs the logs hold.
+    pub fn audit_keeping_worst(
+        self,
+        audit_settings: &AuditSettings,
+        ingest_settings: &IngestSettings,
+        keep: usize,
+        only: &[Verdict],
+    ) -> io::Result<AuditDocument> {
+        let inputs = self.inputs.clone();
+        let skipped_rows = self.skipped_rows.clone();
+        let skipped_files = self.skipped_files.clone();
+        let mut kept: Vec<RunResult> = Vec::new();
+        let order = crate::audit::result::worst_first;
+        // Each batch is narrowed to its own `keep` worst on the formatting stage, so
+        // the writer's thread only merges.
+        let narrow = |mut results: Vec<RunResult>| -> Vec<RunResult> {
+            if !only.is_empty() {
+                results.retain(|r| only.contains(&r.verdict));
+            }
+            if results.len() > keep {
+                results.select_nth_unstable_by(keep, order);
+                results.truncate(keep);
+            }
+            results
+        };
+        let summary = self.audit_through(audit_settings, false, &narrow, &mut |batch| {
+            kept.extend(batch);
+            if kept.len() > keep.saturating_mul(2).max(1024) {
+                kept.select_nth_unstable_by(keep, order);
+                kept.truncate(keep);
+            }
+            Ok(())
+        })?;
+        if kept.len() > keep {
+            kept.select_nth_unstable_by(keep, order);
+            kept.truncate(keep);
+        }
+        kept.sort_by(order);
+        for run in &mut kept {
+            crate::audit::explain::fill_messages(run, audit_settings);
+        }
+        Ok(AuditDocument {
+            tool: ToolInfo::current(),
+            generated_at: crate::report::document::now_rfc3339(),
+            settings: DocumentSettings::new(audit_settings, ingest_settings),
+            inputs,
+            runs: kept,
+            summary,
+            skipped_rows,
+            skipped_files,
+            cautions: CAUTIONS.iter().map(|c| c.to_string()).collect(),
+        })
     }
 }

@@ -81,6 +81,24 @@ impl RunResult {
     }
 }
 
+/// The order reports list runs in, worst first: refuted, unproven, certified, no
+/// claim; within a verdict, the largest excess of the upper bound over the claim
+/// first; ties by run name and source, so that every way of selecting the worst runs
+/// lists the same runs in the same order.
+pub fn worst_first(a: &RunResult, b: &RunResult) -> std::cmp::Ordering {
+    a.verdict
+        .severity()
+        .cmp(&b.verdict.severity())
+        .then_with(|| {
+            let excess = |r: &RunResult| r.error_upper_bound - r.claim_error_rate.unwrap_or(1.0);
+            excess(b)
+                .partial_cmp(&excess(a))
+                .unwrap_or(std::cmp::Ordering::Equal)
+        })
+        .then_with(|| a.run.cmp(&b.run))
+        .then_with(|| a.source.cmp(&b.source))
+}
+
 /// Verdict counts and the gate result.
 #[derive(Clone, Debug, Default, PartialEq, Eq, Serialize, Deserialize)]
 pub struct Summary {

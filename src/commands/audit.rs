@@ -36,10 +36,11 @@ pub fn run(spec: &SourceSpec, flags: &AuditFlags, terminal: Terminal) -> Result<
         .iter()
         .flat_map(|d| d.logs.iter().map(|log| (log.path.as_path(), log.identity)))
         .collect();
-    let map_file_identity = flags
-        .map_file
-        .as_deref()
-        .and_then(|path| std::fs::metadata(path).ok().map(|m| (path, FileIdentity::of(&m))));
+    let map_file_identity = flags.map_file.as_deref().and_then(|path| {
+        std::fs::metadata(path)
+            .ok()
+            .map(|m| (path, FileIdentity::of(&m)))
+    });
     inputs.extend(map_file_identity);
     let outputs: Vec<(&str, &Path)> = [
         ("--output", flags.output.as_deref()),
@@ -60,8 +61,11 @@ pub fn run(spec: &SourceSpec, flags: &AuditFlags, terminal: Terminal) -> Result<
                 .into(),
         ));
     }
-    let gate = if request.format.streams() && flags.html.is_none() && flags.certificate.is_none() {
+    let only_this_output = flags.html.is_none() && flags.certificate.is_none();
+    let gate = if request.format.streams() && only_this_output {
         run_streaming(&spec, flags, &request, terminal)?
+    } else if request.format.shows_a_selection() && only_this_output {
+        run_keeping_worst(&spec, flags, &request, terminal)?
     } else {
         run_in_memory(&spec, flags, &request, terminal)?
     };
@@ -172,6 +176,70 @@ fn list_skipped(terminal: Terminal, files: &[SkippedFile], rows: &[SkippedRow]) 
             printable(&skipped.source),
             printable(&skipped.reasons.join("; "))
         );
+    }
+}
+
+/// An audit whose only output is a table or Markdown: streamed like JSON lines, but
+/// only the runs the report shows are kept (`--only`, `--top`, at most 1,000 by
+/// default), so a long audit is fast and small in memory.
+fn run_keeping_worst(
+    spec: &Source,
+    flags: &AuditFlags,
+    request: &AuditRequest,
+    terminal: Terminal,
+) -> Result<GateResult, Error> {
+    let progress = Progress::start(terminal, "reading logs");
+    let prepared = prepare(spec, request, &progress);
+    let prepared = match prepared.and_then(|p| p.check(&request.audit).map(|_| p)) {
+        Ok(prepared) => prepared,
+        Err(error) => {
+            progress.finish();
+            return Err(error);
+        }
+    };
+    list_skipped(terminal, &prepared.skipped_files, &prepared.skipped_rows);
+    let keep = request
+        .presentation
+        .top
+        .unwrap_or(gapcert::report::text::DEFAULT_SHOWN);
+    let doc = prepared
+        .audit_keeping_worst(
+            &request.audit,
+            &request.ingest,
+            keep,
+            &request.presentation.only,
+        )
+        .map_err(|error| Error::Io(error.to_string()));
+    progress.finish();
+    let doc = doc?;
+    emit_report(
+        &doc,
+        request.format,
+        flags.output.as_deref(),
+        &request.presentation,
+        terminal,
+    )?;
+    Ok(doc.summary.gate)
+}
+
+/// The first pass of a streamed audit over the logs of `spec`.
+fn prepare(
+    spec: &Source,
+    request: &AuditRequest,
+    progress: &Progress,
+) -> Result<gapcert::pipeline::PreparedAudit<'static>, Error> {
+    let report_file = |done, total| progress.file_read(done, total);
+    let limits = StreamLimits::default();
+    match spec {
+        Source::Found(discovery) => {
+            gapcert::pipeline::prepare_discovered(discovery, &request.ingest, limits, &report_file)
+        }
+        Source::Demo => gapcert::pipeline::prepare(
+            &gapcert::demo::sources(),
+            &request.ingest,
+            limits,
+            &report_file,
+        ),
     }
 }
 

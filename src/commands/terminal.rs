@@ -66,7 +66,10 @@ pub fn check_destination(path: &Path) -> Result<(), Error> {
 /// created ([`check_destination`]), none is one of the inputs (the same file on disk,
 /// whatever links or spellings lead to it), and no two are the same file. `outputs`
 /// are (flag, path); `inputs` the files the command will read.
-pub fn check_outputs(outputs: &[(&str, &Path)], inputs: &[(&Path, Option<FileIdentity>)]) -> Result<(), Error> {
+pub fn check_outputs(
+    outputs: &[(&str, &Path)],
+    inputs: &[(&Path, Option<FileIdentity>)],
+) -> Result<(), Error> {
     for (flag, path) in outputs {
         check_destination(path)?;
         if let Ok(metadata) = std::fs::metadata(path) {

@@ -365,7 +365,11 @@ impl<'a> OpenedLog<'a> {
             }
         }
         crate::timing::phase("  validate", started);
-        if settings.percent && scale.values > 0 && !scale.above_one && report.file_problems.is_empty() {
+        if settings.percent
+            && scale.values > 0
+            && !scale.above_one
+            && report.file_problems.is_empty()
+        {
             report.file_problems.push(Problem::file(
                 &self.label,
                 "every rate, accuracy and claim in this file lies within [0, 1], so it holds fractions, but --percent reads them as percentages (0.94 would mean 0.94 %); drop --percent for this file",

@@ -129,9 +129,17 @@ impl View for FamilyList {
                 } else {
                     format!("parameters: {}", f.parameters.join(", "))
                 };
-                writeln!(out, "{}", wrap(&format!("{} ({parameters})", f.key), width, "", "  "))?;
+                writeln!(
+                    out,
+                    "{}",
+                    wrap(&format!("{} ({parameters})", f.key), width, "", "  ")
+                )?;
                 writeln!(out, "{}", wrap(f.growth, width, "  m_H(N) = ", "      "))?;
-                writeln!(out, "{}", wrap(f.vc_dim, width, "  VC dimension: ", "      "))?;
+                writeln!(
+                    out,
+                    "{}",
+                    wrap(f.vc_dim, width, "  VC dimension: ", "      ")
+                )?;
                 writeln!(out, "{}", wrap(f.source, width, "  source: ", "      "))?;
                 writeln!(out)?;
             }

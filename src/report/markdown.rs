@@ -23,7 +23,7 @@ pub fn write_markdown(
     writeln!(out)?;
     writeln!(out, "{}", escape_markdown(&summary_line(doc)))?;
     writeln!(out)?;
-    let (shown, left_out) = shown_runs(&doc.runs, presentation);
+    let (shown, left_out) = shown_runs(&doc.runs, doc.summary.runs, presentation);
     if !shown.is_empty() {
         writeln!(
             out,

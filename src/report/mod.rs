@@ -44,6 +44,13 @@ impl OutputFormat {
         matches!(self, OutputFormat::Ndjson | OutputFormat::Csv)
     }
 
+    /// Whether the format shows a selection of the runs (worst first, `--only`,
+    /// `--top`) rather than every run: the table and Markdown. (The HTML page does
+    /// too, but it also draws every run.)
+    pub fn shows_a_selection(self) -> bool {
+        matches!(self, OutputFormat::Table | OutputFormat::Markdown)
+    }
+
     /// The format's name as `--format` spells it.
     pub fn name(self) -> &'static str {
         match self {

@@ -9,7 +9,8 @@ use comfy_table::{
 
 use super::document::AuditDocument;
 use super::text::{
-    group_thousands, left_out_line, percent, printable, shown_runs, summary_line, wrap, Presentation,
+    group_thousands, left_out_line, percent, printable, shown_runs, summary_line, wrap,
+    Presentation,
 };
 use crate::audit::{RunResult, Verdict};
 
@@ -76,7 +77,7 @@ pub fn write_table(
     out: &mut dyn Write,
     presentation: &Presentation,
 ) -> io::Result<()> {
-    let (shown, left_out) = shown_runs(&doc.runs, presentation);
+    let (shown, left_out) = shown_runs(&doc.runs, doc.summary.runs, presentation);
     let color = presentation.color;
     let width = presentation.width;
     let mut table = Table::new();
@@ -328,7 +329,10 @@ mod tests {
         let (_, text) = demo_table(None);
         let header = table_lines(&text)[1];
         for name in all_headers() {
-            assert!(header.contains(name.as_str()), "{name} missing from {header}");
+            assert!(
+                header.contains(name.as_str()),
+                "{name} missing from {header}"
+            );
         }
         assert!(!text.contains("Left out"));
     }
@@ -416,7 +420,7 @@ mod tests {
             });
             let note = note_text.as_deref();
             for name in all_headers() {
-                let shown = headers.iter().any(|header| *header == name);
+                let shown = headers.contains(&name);
                 let noted = note.is_some_and(|note| note.contains(name.as_str()));
                 assert!(
                     shown != noted,

@@ -1,6 +1,7 @@
 //! Wording shared by the human-readable reports.
 
 use super::document::AuditDocument;
+pub use crate::audit::result::worst_first;
 use crate::audit::{GateResult, RunResult, Verdict};
 
 /// A rate as a percentage with two decimals ("3.25%").
@@ -66,9 +67,14 @@ pub struct Presentation {
 /// nobody and took seconds and a gigabyte to lay out).
 pub const DEFAULT_SHOWN: usize = 1000;
 
-/// The runs a human-readable report shows, worst first, and how many runs it leaves
-/// out (by `--only`, then by `--top` or [`DEFAULT_SHOWN`]).
-pub fn shown_runs<'a>(runs: &'a [RunResult], presentation: &Presentation) -> (Vec<&'a RunResult>, usize) {
+/// The runs a human-readable report shows, worst first, and how many of the audit's
+/// `total` runs it leaves out (by `--only`, then by `--top` or [`DEFAULT_SHOWN`]).
+/// `runs` may be fewer than `total` when a streamed audit kept only the worst.
+pub fn shown_runs<'a>(
+    runs: &'a [RunResult],
+    total: usize,
+    presentation: &Presentation,
+) -> (Vec<&'a RunResult>, usize) {
     let mut sorted: Vec<&RunResult> = if presentation.only.is_empty() {
         runs.iter().collect()
     } else {
@@ -83,18 +89,8 @@ pub fn shown_runs<'a>(runs: &'a [RunResult], presentation: &Presentation) -> (Ve
         sorted.truncate(limit);
     }
     sorted.sort_by(|a, b| worst_first(a, b));
-    let left_out = runs.len() - sorted.len();
+    let left_out = total.max(runs.len()) - sorted.len();
     (sorted, left_out)
-}
-
-/// The order of [`sorted_worst_first`].
-pub fn worst_first(a: &RunResult, b: &RunResult) -> std::cmp::Ordering {
-    a.verdict.severity().cmp(&b.verdict.severity()).then_with(|| {
-        let excess = |r: &RunResult| r.error_upper_bound - r.claim_error_rate.unwrap_or(1.0);
-        excess(b)
-            .partial_cmp(&excess(a))
-            .unwrap_or(std::cmp::Ordering::Equal)
-    })
 }
 
 /// "Showing the 1,000 worst of 200,000 runs (…)": said under a report that leaves

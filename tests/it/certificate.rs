@@ -8,7 +8,7 @@ use std::process::Command;
 use serde_json::Value;
 
 fn gapcert_in(dir: &Path, args: &[&str]) -> std::process::Output {
-    Command::new(env!("CARGO_BIN_EXE_gapcert"))
+    Command::new(crate::common::binary())
         .args(args)
         .current_dir(dir)
         .env("NO_COLOR", "1")

@@ -10,9 +10,17 @@ pub fn root() -> PathBuf {
     PathBuf::from(env!("CARGO_MANIFEST_DIR"))
 }
 
+/// The binary under test: this build's, or another named by `GAPCERT_BIN` (to show
+/// that a new test fails on an older build, as the closing notes of issues report).
+pub fn binary() -> PathBuf {
+    std::env::var_os("GAPCERT_BIN")
+        .map(PathBuf::from)
+        .unwrap_or_else(|| PathBuf::from(env!("CARGO_BIN_EXE_gapcert")))
+}
+
 /// Runs gapcert with `args` from the crate root.
 pub fn gapcert(args: &[&str]) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_gapcert"))
+    Command::new(binary())
         .args(args)
         .current_dir(root())
         .env("NO_COLOR", "1")
@@ -140,7 +148,7 @@ pub fn gapcert_deadline(dir: &Path, args: &[&str], deadline: std::time::Duration
     use std::io::Read;
     use std::process::Stdio;
     let started = std::time::Instant::now();
-    let mut child = Command::new(env!("CARGO_BIN_EXE_gapcert"))
+    let mut child = Command::new(binary())
         .args(args)
         .current_dir(dir)
         .env("NO_COLOR", "1")

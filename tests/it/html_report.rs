@@ -297,7 +297,7 @@ fn chromium_renders_the_demo_report() {
     let dir = tempfile::tempdir().expect("temp dir");
     let html = dir.path().join("report.html");
     let json = dir.path().join("report.json");
-    let status = Command::new(env!("CARGO_BIN_EXE_gapcert"))
+    let status = Command::new(crate::common::binary())
         .args(["demo", "--html"])
         .arg(&html)
         .args(["--format", "json", "--output"])

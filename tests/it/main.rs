@@ -8,6 +8,7 @@ mod cli_audit;
 mod cli_commands;
 mod common;
 mod fuzz_regressions;
+mod guards;
 mod html_report;
 mod layout;
 mod robustness;

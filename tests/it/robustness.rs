@@ -670,7 +670,7 @@ fn dev_full_as_output_fails_with_a_clear_message() {
         );
     }
     // Standard output redirected to a full device.
-    let output = Command::new(env!("CARGO_BIN_EXE_gapcert"))
+    let output = Command::new(crate::common::binary())
         .args(["audit", "good.csv", "--format", "json"])
         .current_dir(dir.path())
         .stdout(fs::File::options().write(true).open("/dev/full").unwrap())
@@ -767,7 +767,7 @@ fn full_tmpfs_fails_cleanly_and_keeps_the_old_file() {
 /// Starts an audit that writes a large NDJSON report to `out.ndjson`, waits until its
 /// temporary file appears, and sends `signal`.
 fn interrupt_while_writing(dir: &Path, signal: &str) -> (Option<i32>, Vec<String>) {
-    let mut child = Command::new(env!("CARGO_BIN_EXE_gapcert"))
+    let mut child = Command::new(crate::common::binary())
         .args([
             "audit",
             "big.csv",

@@ -132,7 +132,11 @@ fn streamed_demo_equals_in_memory_audit() {
         same_holdout: true,
         ..AuditSettings::default()
     };
-    assert_same_as_in_memory(&[fixture("demo/runs_one_split.csv")], &same_holdout, &ingest);
+    assert_same_as_in_memory(
+        &[fixture("demo/runs_one_split.csv")],
+        &same_holdout,
+        &ingest,
+    );
 }
 
 #[test]
