@@ -110,12 +110,12 @@ pub struct AuditFlags {
     /// A finding that does not fail the gate (repeatable, or comma-separated).
     #[arg(long = "gate-allow", value_name = "CODE", value_delimiter = ',')]
     pub gate_allow: Vec<String>,
-    /// Table, Markdown and HTML: show only runs with these verdicts (comma-separated:
+    /// Table and Markdown: show only runs with these verdicts (comma-separated:
     /// certified, unproven, refuted, no_claim). The data formats keep every run.
     #[arg(long, value_name = "VERDICTS", value_delimiter = ',')]
     pub only: Vec<VerdictArg>,
-    /// Table, Markdown and HTML: show the N worst runs (default: all up to 1,000; a
-    /// larger audit shows the 1,000 worst and says how many it left out).
+    /// Table and Markdown: show the N worst runs (default: all up to 1,000; a larger
+    /// audit shows the 1,000 worst and says how many it left out).
     #[arg(long, value_name = "N")]
     pub top: Option<usize>,
 }

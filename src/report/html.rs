@@ -658,7 +658,7 @@ fn run_rows(doc: &AuditDocument, run: &RunResult) -> String {
 <td class=\"num\">{}<span class=\"sub\">{} / {}</span></td>\
 <td class=\"num\">{} – {}<span class=\"sub\">{} / {}</span></td>\
 <td class=\"num\">{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td></tr>\n",
-        if run.findings.is_empty() { "" } else { " class=\"has-findings\"" },
+        " class=\"has-findings\"",
         verdict_badge(run.verdict),
         escape_html(&run.run),
         split,
@@ -677,24 +677,24 @@ fn run_rows(doc: &AuditDocument, run: &RunResult) -> String {
         theory,
         needed,
     );
-    if !run.findings.is_empty() {
-        let items: Vec<String> = run
-            .findings
-            .iter()
-            .map(|f| {
-                format!(
-                    "<li><code>{}</code> {}</li>",
-                    f.code.as_str(),
-                    escape_html(&f.message)
-                )
-            })
-            .collect();
-        rows.push_str(&format!(
-            "<tr class=\"findings\"><td></td><td colspan=\"{}\"><ul class=\"findings\">{}</ul></td></tr>\n",
-            TABLE_COLUMNS - 1,
-            items.join("")
-        ));
-    }
+    // Why the verdict, then the findings in words: one full-width row under the run.
+    let mut items = vec![format!(
+        "<li class=\"why\">{} <span class=\"sub\">certifiable accuracy {}</span></li>",
+        escape_html(&run.explanation),
+        percent(run.certifiable_accuracy)
+    )];
+    items.extend(run.findings.iter().map(|f| {
+        format!(
+            "<li><code>{}</code> {}</li>",
+            f.code.as_str(),
+            escape_html(&f.message)
+        )
+    }));
+    rows.push_str(&format!(
+        "<tr class=\"findings\"><td></td><td colspan=\"{}\"><ul class=\"findings\">{}</ul></td></tr>\n",
+        TABLE_COLUMNS - 1,
+        items.join("")
+    ));
     rows
 }
 
