@@ -1,24 +1,36 @@
-//! The library's entry points: read logs and audit them into one document.
+//! The library's entry points: read logs (and claims files) and audit them into one
+//! document.
 //!
 //! These are the calls a program embedding gapcert makes (the command line, the
 //! Python package, the tests): each returns a value or an [`Error`], and none of them
 //! prints, exits the process or installs a handler.
 
+use crate::audit::claims::evaluate_claims;
 use crate::audit::{audit_runs_checked, summarize, AuditSettings};
 use crate::error::Error;
+use crate::ingest::claims::{read_claims, ClaimsRead, ClaimsSource};
 use crate::ingest::{self, IngestOutcome, IngestSettings, LogSource};
 use crate::report::{self, AuditDocument, DocumentSettings, ToolInfo, CAUTIONS};
 
-/// Audits already-ingested runs and assembles the document.
+/// Audits already-ingested runs (and the claims read from claims files) and
+/// assembles the document.
 pub fn audit_outcome(
     outcome: IngestOutcome,
+    claims: ClaimsRead,
     audit_settings: &AuditSettings,
     ingest_settings: &IngestSettings,
 ) -> Result<AuditDocument, Error> {
     let started = std::time::Instant::now();
-    let runs = audit_runs_checked(outcome.runs, audit_settings)?;
+    let (runs, delta) =
+        audit_runs_checked(outcome.runs, claims.claims.len() as u64, audit_settings)?;
     crate::timing::phase("audit", started);
+    let claim_results =
+        evaluate_claims(&claims.claims, &runs, audit_settings, delta).map_err(Error::Input)?;
     let mut summary = summarize(&runs, audit_settings);
+    for claim in &claim_results {
+        summary.count_claim(claim.verdict);
+    }
+    summary.apply_gate(audit_settings.gate);
     summary.rows_skipped = outcome.skipped_rows.len() + outcome.rows_in_skipped_files;
     summary.rows_read = runs.len() + summary.rows_skipped;
     summary.files_skipped = outcome.skipped_files.len();
@@ -28,6 +40,8 @@ pub fn audit_outcome(
         settings: DocumentSettings::new(audit_settings, ingest_settings),
         inputs: outcome.inputs,
         runs,
+        claims: claim_results,
+        claim_files: claims.inputs,
         summary,
         skipped_rows: outcome.skipped_rows,
         skipped_files: outcome.skipped_files,
@@ -35,7 +49,8 @@ pub fn audit_outcome(
     })
 }
 
-/// Reads and audits the logs at `paths` (files or folders).
+/// Reads and audits the logs at `paths` (files or folders), with the claims files of
+/// `ingest_settings`.
 pub fn audit_paths(
     paths: &[std::path::PathBuf],
     audit_settings: &AuditSettings,
@@ -60,7 +75,8 @@ pub fn audit_paths_reporting(
 }
 
 /// Reads and audits the logs `discovery` found (so that a caller can look at the
-/// files, say to keep outputs from replacing them, before any is read).
+/// files, say to keep outputs from replacing them, before any is read), with the
+/// claims files of `ingest_settings`.
 pub fn audit_discovered(
     discovery: &ingest::Discovery,
     audit_settings: &AuditSettings,
@@ -68,17 +84,65 @@ pub fn audit_discovered(
     progress: ingest::FileProgress<'_>,
 ) -> Result<AuditDocument, Error> {
     let started = std::time::Instant::now();
-    let outcome = ingest::read_discovered(discovery, ingest_settings, progress)?;
+    let outcome = ingest::read_discovered(discovery, ingest_settings, progress);
     crate::timing::phase("ingest", started);
-    audit_outcome(outcome, audit_settings, ingest_settings)
+    let claims = read_claims(&claims_files(ingest_settings), ingest_settings.percent);
+    audit_outcome_of(outcome, claims, audit_settings, ingest_settings)
 }
 
-/// Reads and audits the given sources (files or in-memory logs).
+/// Reads and audits the given sources (files or in-memory logs), with the claims
+/// files of `ingest_settings`.
 pub fn audit_sources(
     sources: &[LogSource<'_>],
     audit_settings: &AuditSettings,
     ingest_settings: &IngestSettings,
 ) -> Result<AuditDocument, Error> {
-    let outcome = ingest::read_sources(sources, ingest_settings)?;
-    audit_outcome(outcome, audit_settings, ingest_settings)
+    audit_sources_with_claims(
+        sources,
+        &claims_files(ingest_settings),
+        audit_settings,
+        ingest_settings,
+    )
+}
+
+/// Reads and audits the given log sources with the given claims sources (the demo's
+/// are compiled in).
+pub fn audit_sources_with_claims(
+    sources: &[LogSource<'_>],
+    claims: &[ClaimsSource<'_>],
+    audit_settings: &AuditSettings,
+    ingest_settings: &IngestSettings,
+) -> Result<AuditDocument, Error> {
+    let outcome = ingest::read_sources(sources, ingest_settings);
+    let claims = read_claims(claims, ingest_settings.percent);
+    audit_outcome_of(outcome, claims, audit_settings, ingest_settings)
+}
+
+/// The claims files of `settings`, as sources.
+fn claims_files(settings: &IngestSettings) -> Vec<ClaimsSource<'static>> {
+    settings
+        .claims_files
+        .iter()
+        .map(|path| ClaimsSource::Path(path.clone()))
+        .collect()
+}
+
+/// Audits when both the logs and the claims files could be read; otherwise fails
+/// with the problems of both, so a user sees them all at once.
+fn audit_outcome_of(
+    outcome: Result<IngestOutcome, Error>,
+    claims: Result<ClaimsRead, Error>,
+    audit_settings: &AuditSettings,
+    ingest_settings: &IngestSettings,
+) -> Result<AuditDocument, Error> {
+    match (outcome, claims) {
+        (Ok(outcome), Ok(claims)) => {
+            audit_outcome(outcome, claims, audit_settings, ingest_settings)
+        }
+        (Err(Error::Input(mut problems)), Err(Error::Input(more))) => {
+            problems.extend(more);
+            Err(Error::Input(problems))
+        }
+        (Err(error), _) | (_, Err(error)) => Err(error),
+    }
 }

@@ -107,6 +107,13 @@ pub struct AuditFlags {
     /// claim_looks_like_accuracy, holdout_n_equals_train_n) fail it too.
     #[arg(long, value_enum)]
     pub gate: Option<GateArg>,
+    /// A claims file (repeatable; any log format): statements from a release note or
+    /// model card, one per row, audited against the logs (README: claims).
+    #[arg(long = "claims", value_name = "FILE")]
+    pub claims: Vec<PathBuf>,
+    /// Also write the claims flat to FILE (.ndjson, .csv or .parquet).
+    #[arg(long, value_name = "FILE")]
+    pub claims_output: Option<PathBuf>,
     /// A finding that does not fail the gate (repeatable, or comma-separated).
     #[arg(long = "gate-allow", value_name = "CODE", value_delimiter = ',')]
     pub gate_allow: Vec<String>,

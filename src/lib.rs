@@ -31,6 +31,7 @@ pub mod api;
 pub mod audit;
 pub mod calculators;
 pub mod certificate;
+pub mod claim;
 pub mod decimal;
 pub mod demo;
 pub mod error;

@@ -29,6 +29,8 @@ pub struct AuditOptions {
     pub gate: Gate,
     /// Finding codes that do not fail the gate (`--gate-allow`).
     pub gate_allow: Vec<String>,
+    /// Claims files (`--claims`).
+    pub claims: Vec<PathBuf>,
 }
 
 impl Default for AuditOptions {
@@ -47,6 +49,7 @@ impl Default for AuditOptions {
             map_file: None,
             gate: Gate::Unproven,
             gate_allow: Vec::new(),
+            claims: Vec::new(),
         }
     }
 }
@@ -120,6 +123,7 @@ impl AuditOptions {
             lenient: self.lenient,
             column_map,
             default_claim_accuracy,
+            claims_files: self.claims.clone(),
         };
         Ok((audit, ingest))
     }

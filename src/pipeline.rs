@@ -356,6 +356,8 @@ impl PreparedAudit<'_> {
             settings: DocumentSettings::new(audit_settings, ingest_settings),
             inputs,
             runs: kept,
+            claims: Vec::new(),
+            claim_files: Vec::new(),
             summary,
             skipped_rows,
             skipped_files,

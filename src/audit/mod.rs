@@ -3,6 +3,7 @@
 //! Data flows one way: ingest produced [`RunInput`]s; this module turns them into
 //! [`RunResult`]s by calling `theory/`; reports only read the results.
 
+pub mod claims;
 pub mod explain;
 pub mod finding;
 pub mod per_run;
@@ -61,6 +62,12 @@ impl AuditScope {
                 }
             }
         }
+    }
+
+    /// Counts `claims` claims of claims files, which `--familywise` divides δ among
+    /// with the runs' own claims.
+    pub fn add_claims(&mut self, claims: u64) {
+        self.claims += claims;
     }
 
     /// Adds the counts of another scope (of other runs).
@@ -138,14 +145,18 @@ pub fn audit_runs_owned(inputs: Vec<RunInput>, settings: &AuditSettings) -> Vec<
 }
 
 /// [`audit_runs_owned`], after checking that the settings fit the runs
-/// ([`AuditScope::check`]).
+/// ([`AuditScope::check`]); `extra_claims` claims of claims files count for
+/// `--familywise`. Returns the results and δ after the family-wise division.
 pub fn audit_runs_checked(
     inputs: Vec<RunInput>,
+    extra_claims: u64,
     settings: &AuditSettings,
-) -> Result<Vec<RunResult>, Error> {
-    let scope = AuditScope::of(&inputs);
+) -> Result<(Vec<RunResult>, f64), Error> {
+    let mut scope = AuditScope::of(&inputs);
+    scope.add_claims(extra_claims);
     scope.check(settings)?;
-    Ok(Auditor::new(&scope, settings).audit(inputs))
+    let results = Auditor::new(&scope, settings).audit(inputs);
+    Ok((results, scope.delta(settings)))
 }
 
 /// Audits batches of runs against one [`AuditScope`]. The solutions that many runs

@@ -55,6 +55,21 @@ pub fn holdout_needed_for(
     }
 }
 
+/// The one-sided (lower, upper) bounds on the true error at level `alpha` from k of n
+/// held-out errors (rate ê for Hoeffding), clipped to [0, 1] (SPEC §4).
+pub fn one_sided_bounds(k: u64, n: u64, rate: f64, alpha: f64, bound: HoldoutBound) -> (f64, f64) {
+    match bound {
+        HoldoutBound::Binomial => (
+            binomial::lower_bound(k, n, alpha),
+            binomial::upper_bound(k, n, alpha),
+        ),
+        HoldoutBound::Hoeffding => {
+            let width = hoeffding::one_sided_width(n, alpha);
+            ((rate - width).max(0.0), (rate + width).min(1.0))
+        }
+    }
+}
+
 /// Audits one run.
 /// Takes the run by value so its strings move into the result instead of being copied.
 pub fn audit_run(input: RunInput, context: RunContext, settings: &AuditSettings) -> RunResult {
@@ -67,16 +82,7 @@ pub fn audit_run(input: RunInput, context: RunContext, settings: &AuditSettings)
 
     let binomial_interval = binomial::interval(k, n, delta_per_run);
     let hoeffding_interval = hoeffding::interval(rate, n, delta_per_run);
-    let (upper, lower) = match settings.holdout_bound {
-        HoldoutBound::Binomial => (
-            binomial::upper_bound(k, n, delta_per_run),
-            binomial::lower_bound(k, n, delta_per_run),
-        ),
-        HoldoutBound::Hoeffding => {
-            let width = hoeffding::one_sided_width(n, delta_per_run);
-            ((rate + width).min(1.0), (rate - width).max(0.0))
-        }
-    };
+    let (lower, upper) = one_sided_bounds(k, n, rate, delta_per_run, settings.holdout_bound);
 
     let verdict = match input.claim_error_rate {
         None => Verdict::NoClaim,
@@ -177,6 +183,7 @@ pub fn audit_run(input: RunInput, context: RunContext, settings: &AuditSettings)
         train_needed: context.train_needed,
         findings,
         logged_at: input.logged_at,
+        model: input.family,
     };
     if context.messages {
         explain::fill_messages(&mut result, settings);

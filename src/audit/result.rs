@@ -73,6 +73,10 @@ pub struct RunResult {
     pub train_needed: Option<u64>,
     pub findings: Vec<Finding>,
     pub logged_at: Option<String>,
+    /// The resolved family, for claims about the generalization gap (the theory
+    /// route needs Ω at their own level). Not written out: `family` names it.
+    #[serde(skip)]
+    pub model: Option<crate::theory::growth::Family>,
 }
 
 impl RunResult {
@@ -119,6 +123,11 @@ pub struct Summary {
     /// Runs with a claim and a finding that fails the gate (a slip of scale or of
     /// column; see [`FindingCode::blocks_gate`]) not allowed by `--gate-allow`.
     pub gate_findings: usize,
+    /// Claims of the claims files (SPEC §10), by verdict.
+    pub claims: usize,
+    pub claims_certified: usize,
+    pub claims_unproven: usize,
+    pub claims_refuted: usize,
     pub gate: GateResult,
 }
 
@@ -145,11 +154,25 @@ impl Summary {
         }
     }
 
-    /// Sets `gate` from the counts.
+    /// Counts one claim of a claims file.
+    pub fn count_claim(&mut self, verdict: Verdict) {
+        self.claims += 1;
+        match verdict {
+            Verdict::Certified => self.claims_certified += 1,
+            Verdict::Unproven | Verdict::NoClaim => self.claims_unproven += 1,
+            Verdict::Refuted => self.claims_refuted += 1,
+        }
+    }
+
+    /// Sets `gate` from the counts (runs' claims and the claims files' alike).
     pub fn apply_gate(&mut self, gate: Gate) {
+        let (unproven, refuted) = (
+            self.unproven + self.claims_unproven,
+            self.refuted + self.claims_refuted,
+        );
         let fails = match gate {
-            Gate::Unproven => self.unproven + self.refuted + self.gate_findings > 0,
-            Gate::Refuted => self.refuted + self.gate_findings > 0,
+            Gate::Unproven => unproven + refuted + self.gate_findings > 0,
+            Gate::Refuted => refuted + self.gate_findings > 0,
             Gate::Never => false,
         };
         self.gate = if fails {

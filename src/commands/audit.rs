@@ -42,10 +42,16 @@ pub fn run(spec: &SourceSpec, flags: &AuditFlags, terminal: Terminal) -> Result<
             .map(|m| (path, FileIdentity::of(&m)))
     });
     inputs.extend(map_file_identity);
+    for path in &flags.claims {
+        if let Ok(metadata) = std::fs::metadata(path) {
+            inputs.push((path.as_path(), FileIdentity::of(&metadata)));
+        }
+    }
     let outputs: Vec<(&str, &Path)> = [
         ("--output", flags.output.as_deref()),
         ("--certificate", flags.certificate.as_deref()),
         ("--html", flags.html.as_deref()),
+        ("--claims-output", flags.claims_output.as_deref()),
     ]
     .into_iter()
     .filter_map(|(flag, path)| path.map(|path| (flag, path)))
@@ -61,15 +67,40 @@ pub fn run(spec: &SourceSpec, flags: &AuditFlags, terminal: Terminal) -> Result<
                 .into(),
         ));
     }
-    let only_this_output = flags.html.is_none() && flags.certificate.is_none();
+    let claims_format = flags
+        .claims_output
+        .as_deref()
+        .map(claims_output_format)
+        .transpose()?;
+    // Claims need the runs they name: an audit with claims (the demo has a release
+    // note) is held in memory.
+    let has_claims = !flags.claims.is_empty() || matches!(spec, Source::Demo);
+    let only_this_output = flags.html.is_none() && flags.certificate.is_none() && !has_claims;
     let gate = if request.format.streams() && only_this_output {
         run_streaming(&spec, flags, &request, terminal)?
     } else if request.format.shows_a_selection() && only_this_output {
         run_keeping_worst(&spec, flags, &request, terminal)?
     } else {
-        run_in_memory(&spec, flags, &request, terminal)?
+        run_in_memory(&spec, flags, &request, claims_format, terminal)?
     };
     Ok(outcome(gate, &spec, &request))
+}
+
+/// The format of `--claims-output`, from its extension.
+fn claims_output_format(path: &Path) -> Result<OutputFormat, Error> {
+    let extension = path
+        .extension()
+        .and_then(|e| e.to_str())
+        .map(str::to_ascii_lowercase);
+    match extension.as_deref() {
+        Some("ndjson" | "jsonl") => Ok(OutputFormat::Ndjson),
+        Some("csv") => Ok(OutputFormat::Csv),
+        Some("parquet") => Ok(OutputFormat::Parquet),
+        _ => Err(Error::Usage(format!(
+            "--claims-output {}: name the file .ndjson, .csv or .parquet (the format follows the extension)",
+            path.display()
+        ))),
+    }
 }
 
 /// The logs of an audit, found.
@@ -93,6 +124,7 @@ fn run_in_memory(
     spec: &Source,
     flags: &AuditFlags,
     request: &AuditRequest,
+    claims_format: Option<OutputFormat>,
     terminal: Terminal,
 ) -> Result<GateResult, Error> {
     let progress = Progress::start(terminal, "reading logs");
@@ -103,9 +135,12 @@ fn run_in_memory(
             &request.ingest,
             &|done, total| progress.file_read(done, total),
         ),
-        Source::Demo => {
-            gapcert::audit_sources(&gapcert::demo::sources(), &request.audit, &request.ingest)
-        }
+        Source::Demo => gapcert::api::audit_sources_with_claims(
+            &gapcert::demo::sources(),
+            &gapcert::demo::claims_sources(),
+            &request.audit,
+            &request.ingest,
+        ),
     };
     progress.finish();
     let doc = result?;
@@ -124,6 +159,11 @@ fn run_in_memory(
     }
     if let Some(path) = &flags.html {
         write_file(path, |out| report::html::write_html(&doc, out))?;
+    }
+    if let (Some(path), Some(format)) = (&flags.claims_output, claims_format) {
+        write_file(path, |out| {
+            report::claims::write_claims(&doc.claims, format, out)
+        })?;
     }
     let started = std::time::Instant::now();
     emit_report(

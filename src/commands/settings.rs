@@ -45,6 +45,7 @@ pub fn resolve_audit(flags: &AuditFlags) -> Result<AuditRequest, Error> {
             GateArg::Never => Gate::Never,
         },
         gate_allow: flags.gate_allow.clone(),
+        claims: flags.claims.clone(),
     };
     let (audit, ingest) = options.resolve()?;
     Ok(AuditRequest {

@@ -4,6 +4,7 @@
 //! collected across every file and row before anything fails, so a user sees all of
 //! them at once.
 
+pub mod claims;
 pub mod columns;
 pub mod discover;
 pub mod formats;

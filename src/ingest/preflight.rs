@@ -619,12 +619,12 @@ mod tests {
                 .meta_data
                 .as_mut()
                 .unwrap()
-                .num_values = 21;
+                .num_values = 22;
         });
         let message = parquet(&forged).unwrap_err();
         assert_eq!(
             message,
-            "column `dim` in row group 0 declares 21 values for 20 rows"
+            "column `dim` in row group 0 declares 22 values for 21 rows"
         );
         let forged = forged_parquet(|m| {
             let column = m.row_groups[0].columns[0].meta_data.as_mut().unwrap();

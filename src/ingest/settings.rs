@@ -13,4 +13,6 @@ pub struct IngestSettings {
     pub column_map: Vec<(String, String)>,
     /// Claimed accuracy for rows that carry no claim of their own (a fraction, already scaled).
     pub default_claim_accuracy: Option<f64>,
+    /// Claims files (`--claims`, SPEC §10), read like logs.
+    pub claims_files: Vec<std::path::PathBuf>,
 }

@@ -3,6 +3,7 @@
 
 use serde::{Deserialize, Serialize};
 
+use crate::audit::claims::ClaimResult;
 use crate::audit::{AuditSettings, FindingCode, Gate, HoldoutBound, RunResult, Summary};
 use crate::ingest::{IngestSettings, InputFile, SkippedFile, SkippedRow};
 
@@ -46,6 +47,9 @@ pub struct DocumentSettings {
     pub claim_accuracy: Option<f64>,
     /// `--map` pairs, canonical → log column.
     pub column_map: Vec<(String, String)>,
+    /// Claims files (`--claims`), as given.
+    #[serde(default)]
+    pub claims: Vec<String>,
 }
 
 impl DocumentSettings {
@@ -63,6 +67,11 @@ impl DocumentSettings {
             lenient: ingest.lenient,
             claim_accuracy: ingest.default_claim_accuracy,
             column_map: ingest.column_map.clone(),
+            claims: ingest
+                .claims_files
+                .iter()
+                .map(|p| p.display().to_string())
+                .collect(),
         }
     }
 
@@ -85,6 +94,7 @@ impl DocumentSettings {
             lenient: self.lenient,
             column_map: self.column_map.clone(),
             default_claim_accuracy: self.claim_accuracy,
+            claims_files: self.claims.iter().map(std::path::PathBuf::from).collect(),
         }
     }
 }
@@ -97,6 +107,12 @@ pub struct AuditDocument {
     pub settings: DocumentSettings,
     pub inputs: Vec<InputFile>,
     pub runs: Vec<RunResult>,
+    /// The claims of the claims files (SPEC §10).
+    #[serde(default)]
+    pub claims: Vec<ClaimResult>,
+    /// The claims files read, hashed.
+    #[serde(default)]
+    pub claim_files: Vec<InputFile>,
     pub summary: Summary,
     pub skipped_rows: Vec<SkippedRow>,
     pub skipped_files: Vec<SkippedFile>,

@@ -23,6 +23,7 @@ pub fn write_markdown(
     writeln!(out)?;
     writeln!(out, "{}", escape_markdown(&summary_line(doc)))?;
     writeln!(out)?;
+    super::claims::write_claims_markdown(&doc.claims, out)?;
     let (shown, left_out) = shown_runs(&doc.runs, doc.summary.runs, presentation);
     if !shown.is_empty() {
         writeln!(

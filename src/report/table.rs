@@ -77,6 +77,7 @@ pub fn write_table(
     out: &mut dyn Write,
     presentation: &Presentation,
 ) -> io::Result<()> {
+    super::claims::write_claims_text(&doc.claims, out, presentation.width)?;
     let (shown, left_out) = shown_runs(&doc.runs, doc.summary.runs, presentation);
     let color = presentation.color;
     let width = presentation.width;

@@ -138,6 +138,12 @@ pub fn summary_line(doc: &AuditDocument) -> String {
         " Rows read: {} ({} audited, {} skipped).",
         s.rows_read, s.runs, s.rows_skipped
     ));
+    if s.claims > 0 {
+        line.push_str(&format!(
+            " Claims: {} ({} certified, {} unproven, {} refuted).",
+            s.claims, s.claims_certified, s.claims_unproven, s.claims_refuted
+        ));
+    }
     line.push_str(if doc.settings.percent {
         " Rates and claims read as percentages."
     } else {

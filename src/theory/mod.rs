@@ -5,6 +5,7 @@
 
 pub mod beta;
 pub mod binomial;
+pub mod comparison;
 pub mod growth;
 pub mod hoeffding;
 pub mod sample_size;

@@ -736,7 +736,7 @@ fn every_report_format_renders_the_demo() {
         first.get("binomial_interval_lo").is_some() && first.get("binomial_interval_hi").is_some()
     );
     let csv = read_csv(&dir.path().join("demo.csv"));
-    assert_eq!(csv.len(), 20);
+    assert_eq!(csv.len(), 21);
     let table = std::fs::read_to_string(dir.path().join("demo.table")).unwrap();
     assert!(
         table.contains("refuted") && table.contains("i.i.d."),

@@ -168,7 +168,7 @@ fn same_holdout_with_several_named_splits_is_an_error() {
     assert_eq!(output.status.code(), Some(2));
     let err = stderr(&output);
     assert!(
-        err.contains("--same-holdout") && err.contains("8 splits"),
+        err.contains("--same-holdout") && err.contains("9 splits"),
         "{err}"
     );
     // Streamed formats check it too, before writing anything.
@@ -326,12 +326,21 @@ fn every_verdict_explains_itself_in_every_format() {
 fn the_table_shows_claims_as_accuracy_with_k_and_both_bounds() {
     let output = gapcert_in(&root(), &["demo"], &[("COLUMNS", "200")]);
     let text = stdout(&output);
-    let header: String = text.lines().take(4).collect::<Vec<_>>().join(" ");
+    // The runs' table starts at its first border (the claims come first).
+    let header: String = text
+        .lines()
+        .skip_while(|l| !l.starts_with('┌'))
+        .take(4)
+        .collect::<Vec<_>>()
+        .join(" ");
     for name in ["claimed", "accuracy", "K", "lower", "upper", "certifiable"] {
         assert!(header.contains(name), "{name} missing: {header}");
     }
     // kw-lin24-bands claims 90 % accuracy: the cell says 90.00%, not the error 10.00%.
-    let row = text.lines().find(|l| l.contains("kw-lin24-bands")).unwrap();
+    let row = text
+        .lines()
+        .find(|l| l.starts_with('│') && l.contains("kw-lin24-bands"))
+        .unwrap();
     assert!(
         row.contains("90.00%") && row.contains("7.67%") && row.contains("9.42%"),
         "{row}"
@@ -373,10 +382,20 @@ fn columns_is_honoured_and_no_line_is_wider() {
 fn only_and_top_choose_the_runs_a_long_audit_shows() {
     let output = gapcert(&["demo", "--only", "unproven,refuted"]);
     let text = stdout(&output);
-    assert!(text.contains("kw-relu-3x80") && text.contains("kw-lin24-l1"));
-    assert!(!text.contains("kw-lin24-bands"), "{text}");
-    assert!(text.contains("Showing 3 of 20 runs"), "{text}");
-    let output = gapcert(&["demo", "--top", "2", "--format", "markdown"]);
+    // The runs' table rows (the claims section above it names runs too).
+    let rows: Vec<&str> = text.lines().filter(|l| l.starts_with('│')).collect();
+    let listed = |name: &str| rows.iter().any(|l| l.contains(name));
+    assert!(listed("kw-relu-3x80") && listed("kw-lin24-l1"));
+    assert!(!listed("kw-lin24-bands"), "{text}");
+    assert!(text.contains("Showing 3 of 21 runs"), "{text}");
+    let output = gapcert(&[
+        "audit",
+        "fixtures/demo/runs.csv",
+        "--top",
+        "2",
+        "--format",
+        "markdown",
+    ]);
     let text = stdout(&output);
     assert_eq!(
         text.lines()
@@ -386,7 +405,7 @@ fn only_and_top_choose_the_runs_a_long_audit_shows() {
             .count(),
         2
     );
-    assert!(text.contains("18 left out"), "{text}");
+    assert!(text.contains("19 left out"), "{text}");
     // A long audit shows its 1,000 worst runs and says so.
     let dir = tempfile::tempdir().unwrap();
     let mut log = String::from("run,holdout_n,holdout_misclassified,claimed_accuracy\n");
