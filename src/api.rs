@@ -24,8 +24,18 @@ pub fn audit_outcome(
     let (runs, delta) =
         audit_runs_checked(outcome.runs, claims.claims.len() as u64, audit_settings)?;
     crate::timing::phase("audit", started);
-    let claim_results =
-        evaluate_claims(&claims.claims, &runs, audit_settings, delta).map_err(Error::Input)?;
+    // Every problem at once: the claims files' own, then those of the joins.
+    let mut problems = claims.problems;
+    let claim_results = match evaluate_claims(&claims.claims, &runs, audit_settings, delta) {
+        Ok(results) => results,
+        Err(more) => {
+            problems.extend(more);
+            Vec::new()
+        }
+    };
+    if !problems.is_empty() {
+        return Err(Error::Input(problems));
+    }
     let mut summary = summarize(&runs, audit_settings);
     for claim in &claim_results {
         summary.count_claim(claim.verdict);

@@ -61,6 +61,8 @@ pub fn seal(document: &AuditDocument) -> BTreeMap<String, String> {
     }
     seal.insert("inputs".into(), digest_json(&document.inputs));
     seal.insert("runs".into(), digest_json(&document.runs));
+    seal.insert("claims".into(), digest_json(&document.claims));
+    seal.insert("claim_files".into(), digest_json(&document.claim_files));
     seal.insert("tool".into(), digest_json(&document.tool));
     seal
 }
@@ -107,8 +109,9 @@ pub fn write_certificate(
 #[derive(Clone, Debug, PartialEq, Serialize)]
 pub struct Drift {
     /// `input_changed`, `input_missing`, `input_added`, `setting_edited`, `runs_edited`,
-    /// `inputs_edited`, `tool_version`, `run_changed`, `run_missing`, `run_added`,
-    /// `audit_failed`.
+    /// `inputs_edited`, `claims_edited`, `tool_version`, `run_changed`, `run_missing`,
+    /// `run_added`, `claims_file_changed`, `claims_file_missing`, `claim_changed`,
+    /// `claim_missing`, `claim_added`, `audit_failed`.
     pub kind: &'static str,
     pub subject: String,
     pub detail: String,
@@ -155,6 +158,8 @@ pub fn find_drift(certificate: &Certificate) -> Vec<Drift> {
                     "setting_edited"
                 } else if name == "runs" {
                     "runs_edited"
+                } else if name == "claims" || name == "claim_files" {
+                    "claims_edited"
                 } else if name == "inputs" {
                     "inputs_edited"
                 } else {
@@ -203,10 +208,49 @@ pub fn find_drift(certificate: &Certificate) -> Vec<Drift> {
         }
     };
     let audit_settings = recorded.settings.audit_settings();
-    let ingest_settings = recorded.settings.ingest_settings();
+    let mut ingest_settings = recorded.settings.ingest_settings();
+    // Claims files were given like the logs, relative to the same folder.
+    let claims_base_ok = base.is_dir()
+        && recorded
+            .settings
+            .claims
+            .iter()
+            .all(|p| base.join(p).exists());
+    ingest_settings.claims_files = recorded
+        .settings
+        .claims
+        .iter()
+        .map(|p| {
+            if claims_base_ok {
+                base.join(p)
+            } else {
+                PathBuf::from(p)
+            }
+        })
+        .collect();
+    for (recorded_path, path) in recorded
+        .settings
+        .claims
+        .iter()
+        .zip(&ingest_settings.claims_files)
+    {
+        if !path.exists() {
+            drift.push(Drift {
+                kind: "claims_file_missing",
+                subject: recorded_path.clone(),
+                detail: "the claims file given to the audit no longer exists".into(),
+            });
+        }
+    }
+    ingest_settings.claims_files.retain(|p| p.exists());
     let present: Result<AuditDocument, String> = if info.demo {
-        crate::api::audit_sources(&crate::demo::sources(), &audit_settings, &ingest_settings)
-            .map_err(|e| e.to_string())
+        crate::api::audit_sources_with_claims(
+            &crate::demo::sources(),
+            &crate::demo::claims_sources(),
+            &audit_settings,
+            &ingest_settings,
+        )
+        .map_err(|e| e.to_string())
     } else {
         let paths: Vec<PathBuf> = info.paths.iter().map(|p| resolve(p)).collect();
         let missing: Vec<&String> = info.paths.iter().filter(|p| !resolve(p).exists()).collect();
@@ -323,6 +367,7 @@ pub fn find_drift(certificate: &Certificate) -> Vec<Drift> {
                     }
                 }
             }
+            compare_claims(recorded, &doc, &strip, &mut drift);
             let recorded_sources: std::collections::BTreeSet<&str> =
                 recorded.runs.iter().map(|r| r.source.as_str()).collect();
             for (source, run) in &now_runs {
@@ -337,6 +382,97 @@ pub fn find_drift(certificate: &Certificate) -> Vec<Drift> {
         }
     }
     drift
+}
+
+/// Claims files (by path and hash) and claims (by identifier): every difference.
+fn compare_claims(
+    recorded: &AuditDocument,
+    now: &AuditDocument,
+    strip: &dyn Fn(&str) -> String,
+    drift: &mut Vec<Drift>,
+) {
+    let now_files: BTreeMap<String, &InputFile> = now
+        .claim_files
+        .iter()
+        .map(|f| (strip(&f.path), f))
+        .collect();
+    for file in &recorded.claim_files {
+        match now_files.get(&file.path) {
+            Some(present) if present.sha256 == file.sha256 => {}
+            Some(present) => drift.push(Drift {
+                kind: "claims_file_changed",
+                subject: file.path.clone(),
+                detail: format!(
+                    "content changed: SHA-256 {}… → {}…",
+                    &file.sha256[..12.min(file.sha256.len())],
+                    &present.sha256[..12.min(present.sha256.len())]
+                ),
+            }),
+            None => {}
+        }
+    }
+    let now_claims: BTreeMap<&str, &crate::audit::claims::ClaimResult> =
+        now.claims.iter().map(|c| (c.claim.as_str(), c)).collect();
+    for claim in &recorded.claims {
+        match now_claims.get(claim.claim.as_str()) {
+            None => drift.push(Drift {
+                kind: "claim_missing",
+                subject: claim.claim.clone(),
+                detail: format!("{} is no longer in the claims files", claim.source),
+            }),
+            Some(present) => {
+                let mut changes = Vec::new();
+                if present.verdict != claim.verdict {
+                    changes.push(format!(
+                        "verdict {} → {}",
+                        claim.verdict.as_str(),
+                        present.verdict.as_str()
+                    ));
+                }
+                if present.kind != claim.kind
+                    || present.run != claim.run
+                    || present.baseline != claim.baseline
+                    || differs(present.value, claim.value)
+                {
+                    changes
+                        .push("the claim itself was edited (kind, run, baseline or value)".into());
+                }
+                for (name, a, b) in [
+                    ("lower", claim.lower, present.lower),
+                    ("upper", claim.upper, present.upper),
+                ] {
+                    if differs(a, b) {
+                        changes.push(format!("{name} {a} → {b}"));
+                    }
+                }
+                if present.method != claim.method {
+                    changes.push(format!(
+                        "method {} → {}",
+                        claim.method.as_str(),
+                        present.method.as_str()
+                    ));
+                }
+                if !changes.is_empty() {
+                    drift.push(Drift {
+                        kind: "claim_changed",
+                        subject: claim.claim.clone(),
+                        detail: changes.join("; "),
+                    });
+                }
+            }
+        }
+    }
+    let recorded_ids: std::collections::BTreeSet<&str> =
+        recorded.claims.iter().map(|c| c.claim.as_str()).collect();
+    for claim in &now.claims {
+        if !recorded_ids.contains(claim.claim.as_str()) {
+            drift.push(Drift {
+                kind: "claim_added",
+                subject: claim.claim.clone(),
+                detail: format!("{} was not in the certified audit", claim.source),
+            });
+        }
+    }
 }
 
 fn strip_source(strip: &dyn Fn(&str) -> String, source: &str) -> String {

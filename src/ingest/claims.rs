@@ -32,9 +32,13 @@ pub const CLAIM_COLUMNS: [&str; 8] = [
 /// What the claims files held.
 #[derive(Clone, Debug, Default)]
 pub struct ClaimsRead {
+    /// The rows that passed their own checks.
     pub claims: Vec<ClaimInput>,
     /// The files, hashed (certificates record them).
     pub inputs: Vec<InputFile>,
+    /// Problems of the other rows (the audit fails with them, together with the
+    /// problems the valid rows meet when joined to the runs).
+    pub problems: Vec<Problem>,
 }
 
 /// Where a claims file's bytes come from: a file, or bytes in memory (the demo's).
@@ -44,8 +48,9 @@ pub enum ClaimsSource<'a> {
     Memory(&'a str, &'a [u8], LogFormat),
 }
 
-/// Reads every claims file; fails with every problem of every file at once.
-/// `percent`: values are percentages (as with `--percent` for the logs).
+/// Reads every claims file: the valid claims and the problems of the others (a file
+/// that cannot be found or read at all is an error). `percent`: values are
+/// percentages (as with `--percent` for the logs).
 pub fn read_claims(sources: &[ClaimsSource<'_>], percent: bool) -> Result<ClaimsRead, Error> {
     let mut read = ClaimsRead::default();
     let mut problems = Vec::new();
@@ -107,11 +112,8 @@ pub fn read_claims(sources: &[ClaimsSource<'_>], percent: bool) -> Result<Claims
             ));
         }
     }
-    if problems.is_empty() {
-        Ok(read)
-    } else {
-        Err(Error::Input(problems))
-    }
+    read.problems = problems;
+    Ok(read)
 }
 
 /// The claims of one table, each row checked on its own.

@@ -121,6 +121,7 @@ fn render_page(doc: &AuditDocument) -> io::Result<String> {
     ));
 
     summary_band(doc, &mut page);
+    claims_section(doc, &mut page)?;
     interval_section(doc, &sorted, &mut page)?;
     theory_section(doc, &sorted, &mut page)?;
     table_section(doc, &sorted, &mut page);
@@ -294,9 +295,10 @@ fn summary_band(doc: &AuditDocument, page: &mut String) {
         page.push_str("<p class=\"note\">No input files were recorded.</p>\n");
     } else {
         page.push_str("<div class=\"wide\"><table>\n<thead><tr><th>file</th><th class=\"num\">rows</th><th class=\"num\">bytes</th><th>SHA-256</th></tr></thead>\n<tbody>\n");
-        for input in &doc.inputs {
+        let claim_files = doc.claim_files.iter().map(|f| (f, " (claims)"));
+        for (input, role) in doc.inputs.iter().map(|f| (f, "")).chain(claim_files) {
             page.push_str(&format!(
-                "<tr><td class=\"mono\">{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td><td class=\"mono hash\">{}</td></tr>\n",
+                "<tr><td class=\"mono\">{}{role}</td><td class=\"num\">{}</td><td class=\"num\">{}</td><td class=\"mono hash\">{}</td></tr>\n",
                 escape_html(&input.path),
                 group_thousands(input.rows as u64),
                 group_thousands(input.size),
@@ -354,6 +356,55 @@ fn yes_no(value: bool) -> &'static str {
     } else {
         "no"
     }
+}
+
+/// The claims of the claims files, first: the chart of each claim's bounds against
+/// what it needs, then a table with the statement, the verdict and the evidence.
+fn claims_section(doc: &AuditDocument, page: &mut String) -> io::Result<()> {
+    if doc.claims.is_empty() {
+        return Ok(());
+    }
+    let claims = super::claims::claims_worst_first(&doc.claims);
+    page.push_str("<section>\n<h2>Claims under review</h2>\n");
+    let rows: Vec<charts::ClaimRow> = claims
+        .iter()
+        .take(CHART_ROWS_LIMIT)
+        .map(|c| charts::ClaimRow {
+            label: c.claim.clone(),
+            verdict: c.verdict,
+            lower: c.lower,
+            upper: c.upper,
+            threshold: c.threshold,
+        })
+        .collect();
+    let svg = charts::claims_chart_svg(&rows)?;
+    page.push_str("<figure>\n");
+    page.push_str(&charts::inline_svg(
+        &svg,
+        "Bounds on each claim's quantity against what the claim needs",
+    ));
+    page.push_str("<figcaption>One row per claim. The bar spans the bounds on the claimed quantity (the true error for accuracy and error claims, its gap to the training error for gap claims, Δ = E_run − E_base for comparisons); the mark is what the claim needs the quantity to be at most. Certified: the whole bar lies left of the mark; refuted: the whole bar lies right of it.</figcaption>\n</figure>\n");
+    page.push_str("<div class=\"wide\"><table class=\"claims\">\n<thead><tr><th>verdict</th><th>claim</th><th>statement</th><th>kind</th><th class=\"num\">needs</th><th class=\"num\">bounds</th><th>method</th></tr></thead>\n<tbody>\n");
+    for c in &claims {
+        page.push_str(&format!(
+            "<tr class=\"has-findings\"><td>{}</td><td class=\"run\">{}<span class=\"sub\">{}</span></td><td>{}</td><td>{}</td><td class=\"num\">{}</td><td class=\"num\">{} – {}</td><td>{}</td></tr>\n",
+            verdict_badge(c.verdict),
+            escape_html(&c.claim),
+            escape_html(&c.source),
+            escape_html(c.statement.as_deref().unwrap_or("")),
+            escape_html(c.kind.as_str()),
+            escape_html(&super::claims::claim_target(c)),
+            percent(c.lower),
+            percent(c.upper),
+            escape_html(c.method.as_str()),
+        ));
+        page.push_str(&format!(
+            "<tr class=\"findings\"><td></td><td colspan=\"6\"><ul class=\"findings\"><li class=\"why\">{}</li></ul></td></tr>\n",
+            escape_html(&c.evidence)
+        ));
+    }
+    page.push_str("</tbody></table></div>\n</section>\n");
+    Ok(())
 }
 
 fn interval_section(

@@ -330,10 +330,12 @@ fn chromium_renders_the_demo_report() {
         dom.contains("Accuracy-claim audit"),
         "the page title text is in the DOM"
     );
+    // The claims chart (the demo has a release note), the interval chart and the
+    // theory chart.
     assert_eq!(
         dom.matches("<svg").count(),
-        2,
-        "both charts parsed as inline SVG"
+        3,
+        "every chart parsed as inline SVG"
     );
     let log = String::from_utf8_lossy(&output.stderr);
     for line in log.lines() {

@@ -4,9 +4,11 @@
 
 mod audit_properties;
 mod certificate;
+mod claims;
 mod cli_audit;
 mod cli_commands;
 mod common;
+mod comparison_coverage;
 mod fuzz_regressions;
 mod guards;
 mod html_report;

@@ -240,3 +240,88 @@ fn special_functions_match_mpmath() {
         assert!(*err <= bound, "{function}: {err:e} > {bound:e} at {case}");
     }
 }
+
+/// Paired comparisons (SPEC §10): Clopper–Pearson bounds on θ (r of m) and q (m of n)
+/// at α/2 each, Δ = q(2θ − 1) over the box, and the exact one-sided McNemar p-value
+/// (McNemar 1947), against mpmath at 50 digits checked against scipy's `beta.ppf` /
+/// `beta.isf` and statsmodels' exact McNemar (`scripts/reference_claims_splits.py`):
+/// m = 0, r = 0, r = m, α down to 1e-12, n up to 10⁷; relative 1e-10.
+#[test]
+fn paired_bounds_and_mcnemar_match_mpmath() {
+    use gapcert::theory::comparison::{mcnemar_p, paired_bounds};
+    let rows = fixture("paired_bounds.csv");
+    assert!(rows.len() >= 200, "{}", rows.len());
+    let mut worst = (0.0_f64, String::new());
+    for row in &rows {
+        let int = |i: usize| -> u64 { row[i].parse().unwrap() };
+        let num = |i: usize| -> f64 { row[i].parse().unwrap() };
+        let (r, s, n, alpha) = (int(0), int(1), int(2), num(3));
+        let got = paired_bounds(r, s, n, alpha);
+        let p = mcnemar_p(r, r + s);
+        for (name, got, want) in [
+            ("theta_lo", got.theta_lo, num(4)),
+            ("theta_hi", got.theta_hi, num(5)),
+            ("q_lo", got.q_lo, num(6)),
+            ("q_hi", got.q_hi, num(7)),
+            ("delta_lo", got.delta_lo, num(8)),
+            ("delta_hi", got.delta_hi, num(9)),
+            ("mcnemar_p", p, num(10)),
+        ] {
+            // Δ's bounds can be near 0 through cancellation: relative to the larger
+            // corner's size (the q factor), as the reference script compares them.
+            let scale = if name.starts_with("delta") {
+                got_scale(want, num(7))
+            } else {
+                want
+            };
+            let err = if scale == 0.0 {
+                (got - want).abs()
+            } else {
+                ((got - want) / scale).abs()
+            };
+            if err > worst.0 {
+                worst = (
+                    err,
+                    format!("{name} r={r} s={s} n={n} alpha={alpha:e}: got {got:e}, want {want:e}"),
+                );
+            }
+            assert!(err <= 1e-10, "{}", worst.1);
+        }
+    }
+    println!(
+        "paired bounds: {} rows, worst relative error {:e} ({})",
+        rows.len(),
+        worst.0,
+        worst.1
+    );
+}
+
+fn got_scale(want: f64, q_hi: f64) -> f64 {
+    want.abs().max(q_hi.abs())
+}
+
+/// Unpaired comparisons (SPEC §10): Δ ≤ U_run(α/2) − L_base(α/2) and
+/// Δ ≥ L_run(α/2) − U_base(α/2), against mpmath at 50 digits
+/// (`scripts/reference_claims_splits.py`): k = 0, k = n, n up to 10⁷, α to 1e-12.
+#[test]
+fn unpaired_bounds_match_mpmath() {
+    use gapcert::audit::claims::unpaired_binomial;
+    let rows = fixture("unpaired_bounds.csv");
+    assert!(rows.len() >= 80, "{}", rows.len());
+    let mut worst = 0.0_f64;
+    for row in &rows {
+        let int = |i: usize| -> u64 { row[i].parse().unwrap() };
+        let num = |i: usize| -> f64 { row[i].parse().unwrap() };
+        let (lo, hi) = unpaired_binomial(int(0), int(1), int(2), int(3), num(4));
+        let scale = num(5).abs().max(num(7).abs());
+        for (got, want) in [(lo, num(9)), (hi, num(10))] {
+            let err = (got - want).abs() / scale.max(f64::MIN_POSITIVE);
+            worst = worst.max(err);
+            assert!(err <= 1e-10, "{row:?}: got {got:e}, want {want:e}");
+        }
+    }
+    println!(
+        "unpaired bounds: {} rows, worst relative error {worst:e}",
+        rows.len()
+    );
+}
