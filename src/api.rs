@@ -6,6 +6,7 @@
 //! prints, exits the process or installs a handler.
 
 use crate::audit::claims::evaluate_claims;
+use crate::audit::splits::split_entries;
 use crate::audit::{audit_runs_checked, summarize, AuditSettings};
 use crate::error::Error;
 use crate::ingest::claims::{read_claims, ClaimsRead, ClaimsSource};
@@ -36,6 +37,7 @@ pub fn audit_outcome(
     if !problems.is_empty() {
         return Err(Error::Input(problems));
     }
+    let splits = split_entries(&runs, audit_settings, delta);
     let mut summary = summarize(&runs, audit_settings);
     for claim in &claim_results {
         summary.count_claim(claim.verdict);
@@ -52,6 +54,7 @@ pub fn audit_outcome(
         runs,
         claims: claim_results,
         claim_files: claims.inputs,
+        splits,
         summary,
         skipped_rows: outcome.skipped_rows,
         skipped_files: outcome.skipped_files,

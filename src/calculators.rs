@@ -8,7 +8,7 @@ use serde::{Serialize, Serializer};
 use crate::error::Error;
 use crate::options::{check_confidence, check_fraction, check_positive};
 use crate::theory::growth::{self, Family, FamilyParams};
-use crate::theory::{sample_size, vc};
+use crate::theory::{reuse, sample_size, vc};
 
 /// `gapcert plan holdout`: held-out examples needed to certify a claim.
 #[derive(Clone, Debug, PartialEq, Serialize)]
@@ -49,6 +49,55 @@ pub fn plan_holdout(
         delta_per_run: alpha,
         holdout_needed_binomial: sample_size::holdout_needed_binomial(error_rate, claim, alpha),
         holdout_needed_hoeffding: sample_size::holdout_needed_hoeffding(error_rate, claim, alpha),
+        claim_accuracy,
+    })
+}
+
+/// `gapcert plan reuse`: how many models a held-out split can be compared on before a
+/// best run's claim stops being certified (SPEC §11).
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct ReusePlan {
+    pub holdout_n: u64,
+    pub error_rate: f64,
+    /// k = ⌈E·N⌉ errors.
+    pub holdout_misclassified: u64,
+    pub claim_error_rate: f64,
+    pub confidence: f64,
+    /// The largest K that still certifies the claim (exact binomial); null when even
+    /// K = 1 fails; capped at 10¹².
+    pub max_candidates: Option<u64>,
+    /// Hoeffding's closed form K ≤ δ·exp(2N(c − ê)²); null when even K = 1 fails.
+    pub hoeffding_max_candidates: Option<u64>,
+    #[serde(skip)]
+    pub claim_accuracy: f64,
+}
+
+/// Plans the reuse of a held-out split of `holdout_n` examples on which the best run
+/// errs at `error_rate`, for a claimed accuracy.
+pub fn plan_reuse(
+    holdout_n: u64,
+    error_rate: f64,
+    claim_accuracy: f64,
+    confidence: f64,
+) -> Result<ReusePlan, Error> {
+    let delta = check_confidence(confidence)?;
+    check_fraction("--error-rate", error_rate)?;
+    check_fraction("--claim-accuracy", claim_accuracy)?;
+    if holdout_n == 0 {
+        return Err(Error::Usage("--holdout-n must be at least 1".into()));
+    }
+    let claim = crate::decimal::complement(claim_accuracy);
+    let k = sample_size::errors_at(error_rate, holdout_n).min(holdout_n);
+    Ok(ReusePlan {
+        holdout_n,
+        error_rate,
+        holdout_misclassified: k,
+        claim_error_rate: claim,
+        confidence,
+        max_candidates: reuse::max_candidates_binomial(k, holdout_n, claim, delta),
+        hoeffding_max_candidates: reuse::max_candidates_hoeffding(
+            error_rate, holdout_n, claim, delta,
+        ),
         claim_accuracy,
     })
 }

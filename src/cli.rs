@@ -133,6 +133,26 @@ pub enum PlanCommand {
     Holdout(PlanHoldoutArgs),
     /// Training examples needed for the VC allowance to reach a tolerance.
     Train(PlanTrainArgs),
+    /// Models a held-out split can be compared on before a best run's claim stops
+    /// being certified.
+    Reuse(PlanReuseArgs),
+}
+
+#[derive(Debug, Args)]
+pub struct PlanReuseArgs {
+    /// Held-out examples in the split.
+    #[arg(long, value_name = "N")]
+    pub holdout_n: u64,
+    /// The best run's error rate on the split (k = ceil(E·N) errors).
+    #[arg(long, value_name = "E")]
+    pub error_rate: f64,
+    /// The accuracy to certify.
+    #[arg(long, value_name = "A")]
+    pub claim_accuracy: f64,
+    #[arg(long, default_value_t = 0.95, value_name = "C")]
+    pub confidence: f64,
+    #[command(flatten)]
+    pub format: FormatArgs,
 }
 
 #[derive(Debug, Args)]

@@ -19,6 +19,7 @@ use std::sync::mpsc;
 
 use rayon::prelude::*;
 
+use crate::audit::splits::{SplitAccumulator, SplitObservation};
 use crate::audit::{AuditScope, AuditSettings, Auditor, RunResult, Summary, Verdict};
 use crate::error::Error;
 use crate::ingest::{
@@ -318,6 +319,8 @@ impl PreparedAudit<'_> {
         only: &[Verdict],
     ) -> io::Result<AuditDocument> {
         let inputs = self.inputs.clone();
+        let delta = self.scope.delta(audit_settings);
+        let mut splits = SplitAccumulator::default();
         let skipped_rows = self.skipped_rows.clone();
         let skipped_files = self.skipped_files.clone();
         let mut kept: Vec<RunResult> = Vec::new();
@@ -334,14 +337,24 @@ impl PreparedAudit<'_> {
             }
             results
         };
-        let summary = self.audit_through(audit_settings, false, &narrow, &mut |batch| {
-            kept.extend(batch);
-            if kept.len() > keep.saturating_mul(2).max(1024) {
-                kept.select_nth_unstable_by(keep, order);
-                kept.truncate(keep);
-            }
-            Ok(())
-        })?;
+        // The splits see every run (in input order), before the batch is narrowed.
+        let observe = |results: Vec<RunResult>| {
+            let seen: Vec<SplitObservation> =
+                results.iter().filter_map(SplitObservation::of).collect();
+            (seen, narrow(results))
+        };
+        let summary =
+            self.audit_through(audit_settings, false, &observe, &mut |(seen, batch)| {
+                for observation in seen {
+                    splits.add(observation);
+                }
+                kept.extend(batch);
+                if kept.len() > keep.saturating_mul(2).max(1024) {
+                    kept.select_nth_unstable_by(keep, order);
+                    kept.truncate(keep);
+                }
+                Ok(())
+            })?;
         if kept.len() > keep {
             kept.select_nth_unstable_by(keep, order);
             kept.truncate(keep);
@@ -358,6 +371,7 @@ impl PreparedAudit<'_> {
             runs: kept,
             claims: Vec::new(),
             claim_files: Vec::new(),
+            splits: splits.finish(audit_settings, delta),
             summary,
             skipped_rows,
             skipped_files,

@@ -192,6 +192,14 @@ pub fn finding_message(run: &RunResult, code: FindingCode, settings: &AuditSetti
             );
             gate_note(&mut text);
         }
+        FindingCode::SplitSizeMismatch => {
+            let _ = write!(
+                text,
+                "other runs of the held-out split `{}` log a different number of examples than this run's {}: runs of one split should share one set of examples, so the split's name may be reused for different sets, and K may count runs that were not compared",
+                run.holdout_set.as_deref().unwrap_or(""),
+                run.holdout_n
+            );
+        }
         FindingCode::HoldoutNEqualsTrainN => {
             let _ = write!(
                 text,

@@ -18,6 +18,7 @@ pub enum FindingCode {
     ClaimLooksLikeErrorRate,
     ClaimLooksLikeAccuracy,
     HoldoutNEqualsTrainN,
+    SplitSizeMismatch,
 }
 
 impl FindingCode {
@@ -34,11 +35,12 @@ impl FindingCode {
             FindingCode::ClaimLooksLikeErrorRate => "claim_looks_like_error_rate",
             FindingCode::ClaimLooksLikeAccuracy => "claim_looks_like_accuracy",
             FindingCode::HoldoutNEqualsTrainN => "holdout_n_equals_train_n",
+            FindingCode::SplitSizeMismatch => "split_size_mismatch",
         }
     }
 
     /// Every code, in the order reports list them.
-    pub const ALL: [FindingCode; 11] = [
+    pub const ALL: [FindingCode; 12] = [
         FindingCode::HoldoutReused,
         FindingCode::HoldoutSmall,
         FindingCode::GapBeyondTheory,
@@ -50,6 +52,7 @@ impl FindingCode {
         FindingCode::ClaimLooksLikeErrorRate,
         FindingCode::ClaimLooksLikeAccuracy,
         FindingCode::HoldoutNEqualsTrainN,
+        FindingCode::SplitSizeMismatch,
     ];
 
     /// The code spelled as in reports.

@@ -9,6 +9,7 @@ pub mod finding;
 pub mod per_run;
 pub mod result;
 pub mod settings;
+pub mod splits;
 
 // foldhash: these maps are looked up once or more per run.
 use foldhash::HashMap;
@@ -35,7 +36,17 @@ use crate::theory::vc;
 pub struct AuditScope {
     runs: u64,
     claims: u64,
-    sharing: HashMap<String, u64>,
+    /// Per held-out split: the runs that name it, and the smallest and largest
+    /// `holdout_n` they log (runs of one split should log one size).
+    sharing: HashMap<String, SplitCount>,
+}
+
+/// What the scope knows of one held-out split.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+struct SplitCount {
+    runs: u64,
+    smallest_n: u64,
+    largest_n: u64,
 }
 
 impl AuditScope {
@@ -55,13 +66,34 @@ impl AuditScope {
             self.claims += 1;
         }
         if let Some(split) = input.holdout_set.as_deref() {
+            let n = input.holdout_n;
             match self.sharing.get_mut(split) {
-                Some(count) => *count += 1,
+                Some(count) => {
+                    count.runs += 1;
+                    count.smallest_n = count.smallest_n.min(n);
+                    count.largest_n = count.largest_n.max(n);
+                }
                 None => {
-                    self.sharing.insert(split.to_string(), 1);
+                    self.sharing.insert(
+                        split.to_string(),
+                        SplitCount {
+                            runs: 1,
+                            smallest_n: n,
+                            largest_n: n,
+                        },
+                    );
                 }
             }
         }
+    }
+
+    /// Whether the runs of `input`'s split log different held-out sizes.
+    pub fn split_size_mismatch(&self, input: &RunInput) -> bool {
+        input
+            .holdout_set
+            .as_deref()
+            .and_then(|split| self.sharing.get(split))
+            .is_some_and(|count| count.smallest_n != count.largest_n)
     }
 
     /// Counts `claims` claims of claims files, which `--familywise` divides δ among
@@ -75,7 +107,14 @@ impl AuditScope {
         self.runs += other.runs;
         self.claims += other.claims;
         for (split, count) in other.sharing {
-            *self.sharing.entry(split).or_insert(0) += count;
+            let entry = self.sharing.entry(split).or_insert(SplitCount {
+                runs: 0,
+                smallest_n: count.smallest_n,
+                largest_n: count.largest_n,
+            });
+            entry.runs += count.runs;
+            entry.smallest_n = entry.smallest_n.min(count.smallest_n);
+            entry.largest_n = entry.largest_n.max(count.largest_n);
         }
     }
 
@@ -114,7 +153,7 @@ impl AuditScope {
             input
                 .holdout_set
                 .as_deref()
-                .and_then(|split| self.sharing.get(split).copied())
+                .and_then(|split| self.sharing.get(split).map(|count| count.runs))
                 .unwrap_or(1)
         };
         input.candidates.max(shared)
@@ -253,6 +292,7 @@ impl<'a> Auditor<'a> {
                         .and_then(|f| train_needed.get(&f).copied().flatten()),
                     defer_holdout_needed: true,
                     messages: self.messages,
+                    split_size_mismatch: self.scope.split_size_mismatch(&input),
                 };
                 let mut result = audit_run(input, context, settings);
                 result.holdout_needed = holdout_needed(&result);

@@ -26,6 +26,8 @@ pub struct RunContext {
     /// of a million sentences nobody reads costs more than some of the math
     /// ([`explain::fill_messages`] writes them later for the runs a report shows).
     pub messages: bool,
+    /// Other runs of this run's held-out split log a different `holdout_n`.
+    pub split_size_mismatch: bool,
 }
 
 /// The claim a held-out size is searched for (SPEC §4): only an unproven claim above
@@ -153,6 +155,9 @@ pub fn audit_run(input: RunInput, context: RunContext, settings: &AuditSettings)
     if input.train_n == Some(n) {
         note(FindingCode::HoldoutNEqualsTrainN);
     }
+    if context.split_size_mismatch {
+        note(FindingCode::SplitSizeMismatch);
+    }
     let mut result = RunResult {
         run: input.run,
         source: input.source,
@@ -184,6 +189,7 @@ pub fn audit_run(input: RunInput, context: RunContext, settings: &AuditSettings)
         findings,
         logged_at: input.logged_at,
         model: input.family,
+        candidates_logged: input.candidates,
     };
     if context.messages {
         explain::fill_messages(&mut result, settings);

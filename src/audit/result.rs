@@ -77,6 +77,10 @@ pub struct RunResult {
     /// route needs Ω at their own level). Not written out: `family` names it.
     #[serde(skip)]
     pub model: Option<crate::theory::growth::Family>,
+    /// `candidates` as logged, before the runs sharing the split were counted (the
+    /// wear history of a split counts K as it grew). Not written out.
+    #[serde(skip)]
+    pub candidates_logged: u64,
 }
 
 impl RunResult {

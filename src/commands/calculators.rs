@@ -7,7 +7,7 @@ use gapcert::Error;
 use super::outcome::Outcome;
 use super::settings::simple_format;
 use super::terminal::{print_view, write_file, Terminal};
-use crate::cli::{FormatArgs, GrowthArgs, PlanHoldoutArgs, PlanTrainArgs};
+use crate::cli::{FormatArgs, GrowthArgs, PlanHoldoutArgs, PlanReuseArgs, PlanTrainArgs};
 
 /// `gapcert plan holdout`: held-out examples needed to certify a claim at an observed
 /// error rate, by the exact binomial bound and by Hoeffding's.
@@ -16,6 +16,19 @@ pub fn plan_holdout(args: &PlanHoldoutArgs, terminal: Terminal) -> Result<Outcom
         args.error_rate,
         args.claim_accuracy,
         args.candidates,
+        args.confidence,
+    )?;
+    print_view(&plan, simple_format(args.format.format), terminal)?;
+    Ok(Outcome::Pass)
+}
+
+/// `gapcert plan reuse`: models a split can be compared on before a claim stops being
+/// certified, by the exact binomial bound and by Hoeffding's closed form.
+pub fn plan_reuse(args: &PlanReuseArgs, terminal: Terminal) -> Result<Outcome, Error> {
+    let plan = calculators::plan_reuse(
+        args.holdout_n,
+        args.error_rate,
+        args.claim_accuracy,
         args.confidence,
     )?;
     print_view(&plan, simple_format(args.format.format), terminal)?;

@@ -29,6 +29,7 @@ pub fn run(cli: Cli) -> Result<Outcome, Error> {
         Command::Demo(options) => audit::run(&audit::SourceSpec::Demo, &options, terminal),
         Command::Plan(PlanCommand::Holdout(args)) => calculators::plan_holdout(&args, terminal),
         Command::Plan(PlanCommand::Train(args)) => calculators::plan_train(&args, terminal),
+        Command::Plan(PlanCommand::Reuse(args)) => calculators::plan_reuse(&args, terminal),
         Command::Growth(args) => calculators::growth(&args, terminal),
         Command::Families(args) => calculators::families(&args, terminal),
         Command::Verify(args) => verify::run(&args, terminal),

@@ -5,7 +5,7 @@ use std::io::{self, Write};
 
 use super::text::{group_thousands, wrap};
 use super::View;
-use crate::calculators::{FamilyList, GrowthTable, HoldoutPlan, TrainPlan};
+use crate::calculators::{FamilyList, GrowthTable, HoldoutPlan, ReusePlan, TrainPlan};
 use crate::certificate::Verification;
 
 impl View for HoldoutPlan {
@@ -41,6 +41,32 @@ impl View for HoldoutPlan {
             out,
             "  Hoeffding bound:      {} held-out examples",
             show(self.holdout_needed_hoeffding)
+        )
+    }
+}
+
+impl View for ReusePlan {
+    fn write_text(&self, out: &mut dyn Write, _width: Option<u16>) -> io::Result<()> {
+        let show = |k: Option<u64>| match k {
+            Some(k) if k >= crate::theory::reuse::CANDIDATES_CAP => "10¹² or more".to_string(),
+            Some(k) => group_thousands(k),
+            None => "none: even a split used once cannot certify it".to_string(),
+        };
+        writeln!(
+            out,
+            "A best run with {} errors in {} held-out examples (error rate {}) certifies accuracy ≥ {} (error ≤ {}) at confidence {} with up to this many models compared on the split:",
+            group_thousands(self.holdout_misclassified),
+            group_thousands(self.holdout_n),
+            self.error_rate,
+            self.claim_accuracy,
+            self.claim_error_rate,
+            self.confidence
+        )?;
+        writeln!(out, "  exact binomial bound: {}", show(self.max_candidates))?;
+        writeln!(
+            out,
+            "  Hoeffding bound:      {}",
+            show(self.hoeffding_max_candidates)
         )
     }
 }

@@ -4,6 +4,7 @@
 use serde::{Deserialize, Serialize};
 
 use crate::audit::claims::ClaimResult;
+use crate::audit::splits::SplitEntry;
 use crate::audit::{AuditSettings, FindingCode, Gate, HoldoutBound, RunResult, Summary};
 use crate::ingest::{IngestSettings, InputFile, SkippedFile, SkippedRow};
 
@@ -113,6 +114,9 @@ pub struct AuditDocument {
     /// The claims files read, hashed.
     #[serde(default)]
     pub claim_files: Vec<InputFile>,
+    /// The held-out splits' wear (SPEC §11).
+    #[serde(default)]
+    pub splits: Vec<SplitEntry>,
     pub summary: Summary,
     pub skipped_rows: Vec<SkippedRow>,
     pub skipped_files: Vec<SkippedFile>,

@@ -94,6 +94,8 @@ ul.findings { margin: 0; padding-left: 16px; color: var(--ink); }
 ul.findings li { margin: 0 0 3px; }
 figure { margin: 10px 0; }
 figure svg { display: block; width: 100%; height: auto; max-width: 1100px; border: 1px solid var(--line); border-radius: 6px; }
+div.wear { display: grid; grid-template-columns: repeat(auto-fill, minmax(520px, 1fr)); gap: 12px; }
+figure.wear { margin: 0; }
 .cautions { border-left: 4px solid var(--unproven); background: #fff8ea; padding: 10px 18px; }
 footer { margin-top: 40px; color: var(--muted); font-size: 13px; }
 @media print { th { position: static; } .band { break-inside: avoid; } }
@@ -125,6 +127,7 @@ fn render_page(doc: &AuditDocument) -> io::Result<String> {
     interval_section(doc, &sorted, &mut page)?;
     theory_section(doc, &sorted, &mut page)?;
     table_section(doc, &sorted, &mut page);
+    splits_section(doc, &mut page)?;
     cautions_section(doc, &mut page);
 
     page.push_str(&format!(
@@ -747,6 +750,54 @@ fn run_rows(doc: &AuditDocument, run: &RunResult) -> String {
         items.join("")
     ));
     rows
+}
+
+/// Most wear charts drawn (the most compared splits).
+const WEAR_CHARTS: usize = 6;
+
+/// The held-out splits: a chart per split for the most compared ones, and a table.
+fn splits_section(doc: &AuditDocument, page: &mut String) -> io::Result<()> {
+    if doc.splits.is_empty() {
+        return Ok(());
+    }
+    let splits = super::splits::splits_worth_showing(&doc.splits);
+    page.push_str("<section>\n<h2>Held-out split wear</h2>\n");
+    page.push_str("<p class=\"note\">Every model compared on a held-out split divides the level of every bound on it by K, so each comparison spends some of the split's power to certify. Each chart shows the accuracy the split's best run can certify against the models compared on the split (log scale), today's K, the best run's claim, and, where runs log <code>logged_at</code>, the history in time order.</p>\n<div class=\"wear\">\n");
+    for entry in splits.iter().take(WEAR_CHARTS) {
+        let svg = charts::wear_chart_svg(entry)?;
+        page.push_str("<figure class=\"wear\">");
+        page.push_str(&charts::inline_svg(
+            &svg,
+            &format!(
+                "Certifiable accuracy of split {} against models compared",
+                entry.split
+            ),
+        ));
+        page.push_str("</figure>\n");
+    }
+    page.push_str("</div>\n<div class=\"wide\"><table class=\"splits\">\n<thead><tr><th>split</th><th class=\"num\">K</th><th>best run</th><th class=\"num\">best error</th><th class=\"num\">certifiable now</th><th class=\"num\">used once</th><th class=\"num\">reuse cost</th><th class=\"num\">comparisons left</th></tr></thead>\n<tbody>\n");
+    for entry in &splits {
+        page.push_str(&format!(
+            "<tr><td class=\"run\">{}{}</td><td class=\"num\">{}</td><td>{}</td><td class=\"num\">{} <span class=\"sub\">{} / {}</span></td><td class=\"num\">{}</td><td class=\"num\">{}</td><td class=\"num\">{:.2} pts</td><td class=\"num\">{}</td></tr>\n",
+            escape_html(&entry.split),
+            if entry.size_mismatch { "<span class=\"sub\">runs log different sizes</span>" } else { "" },
+            group_thousands(entry.candidates),
+            escape_html(&entry.best_run),
+            percent(entry.best_error_rate),
+            group_thousands(entry.best_misclassified),
+            group_thousands(entry.holdout_n),
+            percent(entry.certifiable_now),
+            percent(entry.certifiable_fresh),
+            entry.reuse_cost * 100.0,
+            match entry.comparisons_left {
+                Some(left) if left >= crate::theory::reuse::CANDIDATES_CAP - entry.candidates => "10¹² or more".to_string(),
+                Some(left) => group_thousands(left),
+                None => "—".to_string(),
+            },
+        ));
+    }
+    page.push_str("</tbody></table></div>\n</section>\n");
+    Ok(())
 }
 
 fn optional_note(doc: &AuditDocument) -> String {

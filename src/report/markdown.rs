@@ -97,6 +97,7 @@ pub fn write_markdown(
         }
     }
     writeln!(out)?;
+    super::splits::write_splits_markdown(&doc.splits, out)?;
     for caution in &doc.cautions {
         writeln!(out, "> {}", escape_markdown(caution))?;
     }

@@ -11,6 +11,7 @@ pub mod flat;
 pub mod format;
 pub mod html;
 pub mod markdown;
+pub mod splits;
 pub mod table;
 pub mod text;
 

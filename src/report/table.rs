@@ -153,6 +153,7 @@ pub fn write_table(
         }
     }
     writeln!(out)?;
+    super::splits::write_splits_text(&doc.splits, out, width)?;
     writeln!(out, "{}", wrap(&summary_line(doc), width, "", ""))?;
     writeln!(out)?;
     for caution in &doc.cautions {

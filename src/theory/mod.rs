@@ -8,6 +8,7 @@ pub mod binomial;
 pub mod comparison;
 pub mod growth;
 pub mod hoeffding;
+pub mod reuse;
 pub mod sample_size;
 pub mod special;
 pub mod vc;

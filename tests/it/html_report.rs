@@ -150,7 +150,12 @@ fn page_has_the_five_parts() {
     ] {
         assert!(html.contains(part), "missing `{part}`");
     }
-    assert_eq!(html.matches("<svg").count(), 2, "two inline charts");
+    // The interval and theory charts, and a wear chart per split (six at most).
+    assert_eq!(
+        html.matches("<svg").count(),
+        2 + doc.splits.len().min(6),
+        "the inline charts"
+    );
     for input in &doc.inputs {
         assert!(html.contains(&input.sha256), "input hash shown");
     }
@@ -330,11 +335,11 @@ fn chromium_renders_the_demo_report() {
         dom.contains("Accuracy-claim audit"),
         "the page title text is in the DOM"
     );
-    // The claims chart (the demo has a release note), the interval chart and the
-    // theory chart.
+    // The claims chart (the demo has a release note), the interval chart, the
+    // theory chart and the wear charts of the six most compared splits.
     assert_eq!(
         dom.matches("<svg").count(),
-        3,
+        9,
         "every chart parsed as inline SVG"
     );
     let log = String::from_utf8_lossy(&output.stderr);

@@ -14,6 +14,7 @@ mod guards;
 mod html_report;
 mod layout;
 mod robustness;
+mod splits;
 mod streaming;
 mod theory_crosscheck;
 mod theory_facts;

@@ -369,8 +369,14 @@ fn table_keeps_one_line_per_run_and_prints_no_control_characters() {
         controls.is_empty(),
         "the table passes control characters {controls:?} to the terminal (escape-sequence injection)"
     );
-    // Content lines of the table start with the vertical bar; one header + one per run.
-    let content_lines = table.lines().filter(|l| l.starts_with('│')).count();
+    // Content lines of the runs' table (the first table; the splits follow) start
+    // with the vertical bar; one header + one per run.
+    let content_lines = table
+        .lines()
+        .skip_while(|l| !l.starts_with('┌'))
+        .take_while(|l| !l.starts_with('└'))
+        .filter(|l| l.starts_with('│'))
+        .count();
     assert_eq!(
         content_lines,
         HOSTILE_NAMES.len() + 1,
@@ -1025,6 +1031,7 @@ fn tiny_failure_probabilities_give_finite_bounds() {
                             train_needed: None,
                             defer_holdout_needed: false,
                             messages: true,
+                            split_size_mismatch: false,
                         };
                         let what =
                             format!("{bound:?} δ={delta:e} K={compared} n={n} k={k} c={claim:?}");

@@ -1,0 +1,265 @@
+//! Held-out split wear (SPEC §11): split entries and `plan reuse` against an
+//! independent mpmath/scipy script, ties for the best run, size mismatches, the wear
+//! history, monotonicity properties, and the demo's splits in every format.
+
+use proptest::prelude::*;
+use serde_json::Value;
+
+use gapcert::audit::splits::{split_entries, SplitEntry};
+use gapcert::audit::{AuditSettings, HoldoutBound};
+use gapcert::ingest::{IngestSettings, LogFormat, LogSource};
+use gapcert::theory::reuse::{max_candidates_binomial, max_candidates_hoeffding};
+
+use crate::common::{gapcert, gapcert_json, root, stdout};
+
+fn reference() -> Vec<Vec<String>> {
+    let text = std::fs::read_to_string(root().join("fixtures/reference/reuse.csv")).unwrap();
+    text.lines()
+        .filter(|l| !l.starts_with('#'))
+        .skip(1)
+        .map(|l| l.split(',').map(str::to_string).collect())
+        .collect()
+}
+
+fn audit_log(log: &str, settings: &AuditSettings) -> gapcert::report::AuditDocument {
+    let sources = [LogSource::Memory("mem.csv", log.as_bytes(), LogFormat::Csv)];
+    gapcert::audit_sources(&sources, settings, &IngestSettings::default()).expect("a valid log")
+}
+
+fn relative(got: f64, want: f64) -> f64 {
+    if want == 0.0 {
+        got.abs()
+    } else {
+        ((got - want) / want).abs()
+    }
+}
+
+/// `fixtures/reference/reuse.csv` (`scripts/reference_claims_splits.py`: mpmath at 50
+/// digits, K_max = ⌊δ / P[Bin(n, c) ≤ k]⌋ and Hoeffding's ⌊δ·exp(2n(c − ê)²)⌋, ratios
+/// within 1e-9 of an integer left out): `comparisons_left` and both maxima exact,
+/// certifiable accuracies to 1e-10 relative; including best runs certified up to the
+/// 10¹² cap, K = 1, and claims not certified at all.
+#[test]
+fn split_entries_and_reuse_match_the_reference_script() {
+    let rows = reference();
+    assert!(rows.len() >= 80, "{}", rows.len());
+    for delta in ["0.05", "0.01", "0.001"] {
+        let confidence = 1.0 - delta.parse::<f64>().unwrap();
+        let confidence = format!("{confidence:.3}").parse::<f64>().unwrap();
+        let settings = AuditSettings {
+            confidence,
+            ..AuditSettings::default()
+        };
+        let chosen: Vec<&Vec<String>> = rows.iter().filter(|r| r[3] == delta).collect();
+        // One split per row: its best (only) run logs the row's K as `candidates`.
+        let mut log = String::from(
+            "run,holdout_n,holdout_misclassified,holdout_set,candidates,claimed_error_rate\n",
+        );
+        for (i, r) in chosen.iter().enumerate() {
+            log.push_str(&format!("r{i},{},{},s{i},{},{}\n", r[1], r[0], r[4], r[2]));
+        }
+        let doc = audit_log(&log, &settings);
+        assert_eq!(doc.splits.len(), chosen.len());
+        for (entry, r) in doc.splits.iter().zip(&chosen) {
+            let what = format!("{r:?}");
+            let num = |i: usize| -> f64 { r[i].parse().unwrap() };
+            let opt = |i: usize| -> Option<u64> { r[i].parse().ok() };
+            assert!(
+                relative(entry.certifiable_now, num(5)) < 1e-10,
+                "{what}: {}",
+                entry.certifiable_now
+            );
+            assert!(relative(entry.certifiable_fresh, num(6)) < 1e-10, "{what}");
+            assert!(
+                (entry.reuse_cost - num(7)).abs() < 1e-12,
+                "{what}: {}",
+                entry.reuse_cost
+            );
+            assert_eq!(entry.comparisons_left, opt(9), "{what}");
+            let (k, n): (u64, u64) = (r[0].parse().unwrap(), r[1].parse().unwrap());
+            let (claim, d) = (num(2), num(3));
+            assert_eq!(max_candidates_binomial(k, n, claim, d), opt(8), "{what}");
+            assert_eq!(
+                max_candidates_hoeffding(k as f64 / n as f64, n, claim, d),
+                opt(10),
+                "{what}"
+            );
+        }
+    }
+}
+
+#[test]
+fn ties_keep_the_first_run_and_mismatched_sizes_are_flagged() {
+    let log = "run,holdout_n,holdout_misclassified,holdout_set,logged_at\n\
+later,1000,30,s,2024-01-03\n\
+first,1000,30,s,2024-01-01\n\
+worse,1000,50,s,2024-01-02\n\
+odd,800,40,t,2024-01-01\n\
+even,900,40,t,2024-01-02\n";
+    let doc = audit_log(log, &AuditSettings::default());
+    let s = &doc.splits[0];
+    // Input order decides a tie, not time.
+    assert_eq!(s.best_run, "later");
+    assert_eq!(s.candidates, 3);
+    assert_eq!(s.first_logged_at.as_deref(), Some("2024-01-01T00:00:00Z"));
+    // The history in time order, K growing run by run.
+    let history: Vec<(&str, u64, &str)> = s
+        .history
+        .iter()
+        .map(|h| (h.run.as_str(), h.compared, h.best_run.as_str()))
+        .collect();
+    assert_eq!(
+        history,
+        [
+            ("first", 1, "first"),
+            ("worse", 2, "first"),
+            ("later", 3, "first")
+        ]
+    );
+    assert!(s
+        .history
+        .windows(2)
+        .all(|w| w[1].certifiable_accuracy <= w[0].certifiable_accuracy));
+    let t = &doc.splits[1];
+    assert!(t.size_mismatch && !s.size_mismatch);
+    for run in doc
+        .runs
+        .iter()
+        .filter(|r| r.holdout_set.as_deref() == Some("t"))
+    {
+        assert!(
+            run.findings
+                .iter()
+                .any(|f| f.code.as_str() == "split_size_mismatch"),
+            "{}",
+            run.run
+        );
+    }
+}
+
+fn entries(runs: &[(u64, u64)], claim: f64) -> Vec<SplitEntry> {
+    let mut log =
+        String::from("run,holdout_n,holdout_misclassified,holdout_set,claimed_error_rate\n");
+    for (i, (n, k)) in runs.iter().enumerate() {
+        log.push_str(&format!("r{i},{n},{k},s,{claim}\n"));
+    }
+    let doc = audit_log(&log, &AuditSettings::default());
+    split_entries(&doc.runs, &AuditSettings::default(), 0.05)
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig::with_cases(64))]
+
+    /// The accuracy a split can certify never rises as more models are compared on it.
+    #[test]
+    fn certifiable_accuracy_never_rises_with_k(n in 50u64..200_000, k_share in 0.0f64..0.5, hoeffding in any::<bool>()) {
+        let k = (n as f64 * k_share) as u64;
+        let settings = AuditSettings {
+            holdout_bound: if hoeffding { HoldoutBound::Hoeffding } else { HoldoutBound::Binomial },
+            ..AuditSettings::default()
+        };
+        let log = format!("run,holdout_n,holdout_misclassified,holdout_set\na,{n},{k},s\n");
+        let doc = audit_log(&log, &settings);
+        let entry = &doc.splits[0];
+        let mut previous = f64::INFINITY;
+        for compared in [1u64, 2, 3, 10, 100, 1_000, 1_000_000, 1_000_000_000_000] {
+            let now = entry.certifiable_at(compared);
+            prop_assert!(now <= previous, "K = {compared}: {now} > {previous}");
+            previous = now;
+        }
+    }
+
+    /// While the best run stays best, each run added to the split takes one
+    /// comparison off what is left.
+    #[test]
+    fn comparisons_left_fall_by_one_per_added_run(n in 1_500u64..6_000, extra in 1usize..6) {
+        // 1 % error against a 2 % claim: certified, with tens to millions of
+        // comparisons left depending on n.
+        let mut runs = vec![(n, n / 100)];
+        let before = entries(&runs, 0.02)[0].comparisons_left;
+        prop_assume!(before.is_some_and(|left| left >= extra as u64 && left < 1_000_000_000_000 - 10));
+        for added in 1..=extra {
+            runs.push((n, n / 10)); // worse: 10 % error
+            let now = entries(&runs, 0.02)[0].clone();
+            prop_assert_eq!(now.best_run.as_str(), "r0");
+            prop_assert_eq!(now.comparisons_left, before.map(|left| left - added as u64));
+        }
+    }
+}
+
+#[test]
+fn plan_reuse_agrees_with_the_demo_split() {
+    let (_, doc) = gapcert_json(&["demo", "--format", "json"]);
+    let south = doc["splits"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|s| s["split"] == "clips-holdout-south-v1")
+        .unwrap();
+    let (n, k) = (
+        south["holdout_n"].as_u64().unwrap(),
+        south["best_misclassified"].as_u64().unwrap(),
+    );
+    let rate = format!("{}", k as f64 / n as f64);
+    let (code, plan) = gapcert_json(&[
+        "plan",
+        "reuse",
+        "--holdout-n",
+        &n.to_string(),
+        "--error-rate",
+        &rate,
+        "--claim-accuracy",
+        "0.95",
+        "--format",
+        "json",
+    ]);
+    assert_eq!(code, 0);
+    assert_eq!(plan["holdout_misclassified"], k);
+    let k_now = south["candidates"].as_u64().unwrap();
+    assert_eq!(
+        plan["max_candidates"].as_u64().unwrap() - k_now,
+        south["comparisons_left"].as_u64().unwrap()
+    );
+    assert!(
+        plan["hoeffding_max_candidates"].is_null() || plan["hoeffding_max_candidates"].is_u64()
+    );
+    let text = stdout(&gapcert(&[
+        "plan",
+        "reuse",
+        "--holdout-n",
+        "2400",
+        "--error-rate",
+        "0.0358",
+        "--claim-accuracy",
+        "0.95",
+    ]));
+    assert!(
+        text.contains("exact binomial bound:") && text.contains("Hoeffding bound:"),
+        "{text}"
+    );
+}
+
+#[test]
+fn the_demo_splits_show_their_wear_in_every_format() {
+    let (_, doc) = gapcert_json(&["demo", "--format", "json"]);
+    let splits: Vec<&Value> = doc["splits"].as_array().unwrap().iter().collect();
+    for name in ["clips-holdout-north-v2", "clips-holdout-south-v1"] {
+        let split = splits.iter().find(|s| s["split"] == name).unwrap();
+        assert!(split["reuse_cost"].as_f64().unwrap() > 0.0, "{name}");
+        assert!(!split["history"].as_array().unwrap().is_empty(), "{name}");
+    }
+    for (format, heading) in [
+        ("table", "Held-out splits"),
+        ("markdown", "**Held-out splits**"),
+    ] {
+        let text = stdout(&gapcert(&["demo", "--format", format]));
+        assert!(text.contains(heading), "{format}");
+        assert!(text.contains("clips-holdout-south-v1"), "{format}");
+    }
+    let dir = tempfile::tempdir().unwrap();
+    let page = dir.path().join("demo.html");
+    gapcert(&["demo", "--html", page.to_str().unwrap(), "-q"]);
+    let html = std::fs::read_to_string(&page).unwrap();
+    assert!(html.contains("Held-out split wear"));
+    assert!(html.contains("Certifiable accuracy of split clips-holdout-south-v1"));
+}
