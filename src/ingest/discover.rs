@@ -87,7 +87,7 @@ pub fn discover(paths: &[PathBuf]) -> Result<Discovery, Error> {
         given: paths.to_vec(),
         ..Discovery::default()
     };
-    let mut visited = HashSet::new();
+    let mut visited: HashSet<FileIdentity> = HashSet::new();
     for path in paths {
         let metadata = std::fs::metadata(path).map_err(|error| {
             Error::Usage(format!(
@@ -132,15 +132,23 @@ pub fn discover(paths: &[PathBuf]) -> Result<Discovery, Error> {
 }
 
 /// Walks a folder. Symbolic links to folders are followed once: `visited` holds the
-/// canonical path of every folder entered, so a link loop ends instead of recursing
-/// forever.
+/// identity (device, inode) of every folder entered, so a link loop ends instead of
+/// recursing forever.
+///
+/// Cheap per file, since sweeps keep a folder per run: the kind of each entry comes
+/// from the directory listing itself (no `stat` per file, except for symbolic links,
+/// which are followed), and a regular file's identity is its inode from the listing
+/// with the folder's device. One `stat` per folder, none per file.
 fn walk(
     folder: &Path,
     discovery: &mut Discovery,
-    visited: &mut HashSet<PathBuf>,
+    visited: &mut HashSet<FileIdentity>,
 ) -> Result<(), Error> {
-    if let Ok(canonical) = std::fs::canonicalize(folder) {
-        if !visited.insert(canonical) {
+    let folder_identity = std::fs::metadata(folder)
+        .ok()
+        .and_then(|metadata| FileIdentity::of(&metadata));
+    if let Some(identity) = folder_identity {
+        if !visited.insert(identity) {
             return Ok(());
         }
     }
@@ -151,28 +159,61 @@ fn walk(
             describe_io_error(&error)
         ))
     })?;
-    let mut children: Vec<PathBuf> = entries
-        .filter_map(|entry| entry.ok().map(|e| e.path()))
+    let mut children: Vec<(PathBuf, Option<std::fs::FileType>, Option<u64>)> = entries
+        .filter_map(|entry| entry.ok())
+        .map(|entry| (entry.path(), entry.file_type().ok(), entry_inode(&entry)))
         .collect();
-    children.sort();
-    for child in children {
-        let Ok(metadata) = std::fs::metadata(&child) else {
-            discovery.skipped_files.push(child);
-            continue;
+    children.sort_by(|a, b| a.0.cmp(&b.0));
+    for (child, file_type, inode) in children {
+        // Symbolic links (and entries whose kind the listing did not give) are
+        // followed with a stat; everything else is known from the listing.
+        let (is_dir, is_file, identity) = match file_type {
+            Some(kind) if kind.is_dir() => (true, false, None),
+            Some(kind) if kind.is_file() => (
+                false,
+                true,
+                folder_identity
+                    .zip(inode)
+                    .map(|(folder, inode)| FileIdentity {
+                        device: folder.device,
+                        inode,
+                    }),
+            ),
+            Some(kind) if !kind.is_symlink() => (false, false, None),
+            _ => match std::fs::metadata(&child) {
+                Ok(metadata) => (
+                    metadata.is_dir(),
+                    metadata.is_file(),
+                    FileIdentity::of(&metadata),
+                ),
+                Err(_) => (false, false, None),
+            },
         };
-        if metadata.is_dir() {
+        if is_dir {
             walk(&child, discovery, visited)?;
-        } else if !metadata.is_file() {
+        } else if !is_file {
             discovery.skipped_files.push(child);
         } else if let Some(format) = LogFormat::from_path(&child) {
             discovery.logs.push(LogFile {
                 path: child,
                 format,
-                identity: FileIdentity::of(&metadata),
+                identity,
             });
         } else {
             discovery.skipped_files.push(child);
         }
     }
     Ok(())
+}
+
+/// The inode of a directory entry, from the listing.
+#[cfg(unix)]
+fn entry_inode(entry: &std::fs::DirEntry) -> Option<u64> {
+    use std::os::unix::fs::DirEntryExt;
+    Some(entry.ino())
+}
+
+#[cfg(not(unix))]
+fn entry_inode(_: &std::fs::DirEntry) -> Option<u64> {
+    None
 }

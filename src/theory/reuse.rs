@@ -57,7 +57,8 @@ pub fn max_candidates_binomial(k: u64, n: u64, claim: f64, delta: f64) -> Option
 /// Domain: rate, claim in [0, 1], n ≥ 1, 0 < δ < 1. Accuracy: a closed form; equal to
 /// mpmath's on every case of `fixtures/reference/reuse.csv`. Source: Hoeffding 1963.
 pub fn max_candidates_hoeffding(rate: f64, n: u64, claim: f64, delta: f64) -> Option<u64> {
-    if n == 0 || rate.is_nan() || claim.is_nan() || rate >= claim || delta.is_nan() || delta <= 0.0 {
+    if n == 0 || rate.is_nan() || claim.is_nan() || rate >= claim || delta.is_nan() || delta <= 0.0
+    {
         return None;
     }
     let margin = claim - rate;
