@@ -23,8 +23,8 @@ use crate::audit::splits::{SplitAccumulator, SplitObservation};
 use crate::audit::{AuditScope, AuditSettings, Auditor, RunResult, Summary, Verdict};
 use crate::error::Error;
 use crate::ingest::{
-    self, Collected, FileProgress, IngestSettings, InputFile, LogSource, OpenedLog, SkippedFile,
-    SkippedRow,
+    self, Collected, FileProgress, IngestSettings, InputFile, LogSource, LogSummary, OpenedLog,
+    SkippedFile, SkippedRow,
 };
 use crate::report::document::{AuditDocument, DocumentSettings, ToolInfo, CAUTIONS};
 use crate::run::RunInput;
@@ -48,9 +48,17 @@ impl Default for StreamLimits {
     }
 }
 
+/// A log after the first pass: its table kept only when its runs were not (a folder
+/// of 200,000 small logs must not hold 200,000 tables); a dropped table is read again
+/// if the second pass needs it after all.
+struct PassedLog<'a> {
+    source: LogSource<'a>,
+    table: Option<OpenedLog<'a>>,
+}
+
 /// Logs that passed the first pass, ready to be audited batch by batch.
 pub struct PreparedAudit<'a> {
-    logs: Vec<OpenedLog<'a>>,
+    logs: Vec<PassedLog<'a>>,
     /// Per log: whether its runs are audited (a log skipped under `--lenient` is not).
     usable: Vec<bool>,
     /// The runs, batch by batch, when they were few enough to keep.
@@ -113,7 +121,7 @@ pub fn prepare<'a>(
     ingest::columns::check_column_map(&settings.column_map).map_err(Error::Usage)?;
     let done = AtomicUsize::new(0);
     let held_runs = AtomicUsize::new(0);
-    let (logs, passes): (Vec<OpenedLog<'a>>, Vec<FirstPass>) = sources
+    let (logs, passes): (Vec<(PassedLog<'a>, LogSummary)>, Vec<FirstPass>) = sources
         .par_iter()
         .map(|source| {
             let log = OpenedLog::open(source, &settings.column_map);
@@ -134,24 +142,36 @@ pub fn prepare<'a>(
             });
             let finished = done.fetch_add(1, Ordering::Relaxed) + 1;
             progress(finished, sources.len());
+            let summary = log.summary();
+            let table = if held.is_some() { None } else { Some(log) };
             let pass = FirstPass {
                 report,
                 scope,
                 runs,
                 held,
             };
-            (log, pass)
+            (
+                (
+                    PassedLog {
+                        source: source.clone(),
+                        table,
+                    },
+                    summary,
+                ),
+                pass,
+            )
         })
         .unzip();
+    let (logs, summaries): (Vec<PassedLog<'a>>, Vec<LogSummary>) = logs.into_iter().unzip();
 
     let mut collected = Collected::default();
     let mut scope = AuditScope::default();
     let mut usable = Vec::with_capacity(logs.len());
-    let mut held = Some(Vec::new());
+    let mut held: Option<Vec<Vec<RunInput>>> = Some(Vec::new());
     let mut runs = 0;
     let keep_all = held_runs.load(Ordering::Relaxed) <= limits.hold_runs;
-    for (log, pass) in logs.iter().zip(passes) {
-        let use_log = collected.add(log, pass.report, settings.lenient);
+    for (summary, pass) in summaries.iter().zip(passes) {
+        let use_log = collected.add(summary, pass.report, settings.lenient);
         usable.push(use_log);
         if !use_log {
             continue;
@@ -159,7 +179,19 @@ pub fn prepare<'a>(
         scope.merge(pass.scope);
         runs += pass.runs;
         match (&mut held, pass.held) {
-            (Some(all), Some(batches)) if keep_all => all.extend(batches),
+            (Some(all), Some(batches)) if keep_all => {
+                // Small logs give small batches: gather them into batches of about
+                // `batch_rows` runs, so that a folder of 20,000 one-run logs crosses the
+                // stages in a few batches, not 20,000.
+                for batch in batches {
+                    match all.last_mut() {
+                        Some(last) if last.len() + batch.len() <= limits.batch_rows => {
+                            last.extend(batch)
+                        }
+                        _ => all.push(batch),
+                    }
+                }
+            }
             _ => held = None,
         }
     }
@@ -251,10 +283,13 @@ impl PreparedAudit<'_> {
                     }
                 }
                 None => {
-                    for (log, usable) in logs.iter().zip(&usable) {
+                    for (passed, usable) in logs.into_iter().zip(&usable) {
                         if !usable {
                             continue;
                         }
+                        let log = passed.table.unwrap_or_else(|| {
+                            OpenedLog::open(&passed.source, &settings.column_map)
+                        });
                         // Bad rows were reported by the first pass; only runs matter now.
                         let mut stopped = false;
                         log.validate(&settings, limits.batch_rows, &mut |batch| {

@@ -126,7 +126,9 @@ pub fn read_sources_reporting(
 ) -> Result<IngestOutcome, Error> {
     columns::check_column_map(&settings.column_map).map_err(Error::Usage)?;
     let done = std::sync::atomic::AtomicUsize::new(0);
-    let per_file: Vec<(OpenedLog, Vec<RunInput>, FileReport)> = sources
+    // Each file's table is dropped as soon as its runs are read: a folder of 200,000
+    // small logs must not hold 200,000 tables.
+    let per_file: Vec<(LogSummary, Vec<RunInput>, FileReport)> = sources
         .par_iter()
         .map(|source| {
             let log = OpenedLog::open(source, &settings.column_map);
@@ -137,7 +139,7 @@ pub fn read_sources_reporting(
             });
             let finished = done.fetch_add(1, std::sync::atomic::Ordering::Relaxed) + 1;
             progress(finished, sources.len());
-            (log, runs, report)
+            (log.summary(), runs, report)
         })
         .collect();
 
@@ -181,7 +183,7 @@ impl Collected {
     /// unusable file is a skipped file (its rows counted as skipped with it, not one by
     /// one); otherwise both are problems. Returns whether the file's runs are to be
     /// audited.
-    pub fn add(&mut self, log: &OpenedLog<'_>, report: FileReport, lenient: bool) -> bool {
+    pub fn add(&mut self, log: &LogSummary, report: FileReport, lenient: bool) -> bool {
         if let Some(input) = &log.input {
             self.inputs.push(input.clone());
         }
@@ -197,7 +199,7 @@ impl Collected {
                         .collect::<Vec<_>>()
                         .join("; "),
                 });
-                self.rows_in_skipped_files += log.rows();
+                self.rows_in_skipped_files += log.rows;
             } else {
                 self.problems.extend(report.file_problems);
             }
@@ -232,6 +234,18 @@ impl Collected {
         }
         Ok(())
     }
+}
+
+/// Files at least this large are hashed and parsed on two threads at once.
+const PARALLEL_FILE_BYTES: usize = 1 << 20;
+
+/// What the report of an audit keeps of a log after reading it: its name, identity
+/// and hash, and how many rows it held (not its table).
+#[derive(Clone, Debug)]
+pub struct LogSummary {
+    pub label: String,
+    pub input: Option<InputFile>,
+    pub rows: usize,
 }
 
 /// One log file opened for an audit: its identity and hash, and its table, which is
@@ -276,13 +290,17 @@ impl<'a> OpenedLog<'a> {
             let sha256 = hex(&Sha256::digest(&bytes));
             (sha256, formats::open_parquet(&label, bytes))
         } else {
-            rayon::join(
-                || hex(&Sha256::digest(&bytes)),
-                || {
-                    formats::read_table(&label, &bytes, format, column_map)
-                        .map(|(df, problems)| formats::LogTable::Frame(df, problems))
-                },
-            )
+            let parse = || {
+                formats::read_table(&label, &bytes, format, column_map)
+                    .map(|(df, problems)| formats::LogTable::Frame(df, problems))
+            };
+            // Small files (a sweep's metrics.json) are many: handing each to two
+            // threads costs more than it saves.
+            if bytes.len() < PARALLEL_FILE_BYTES {
+                (hex(&Sha256::digest(&bytes)), parse())
+            } else {
+                rayon::join(|| hex(&Sha256::digest(&bytes)), parse)
+            }
         };
         crate::timing::phase("  parse + hash", started);
         let rows = table.as_ref().map(|t| t.height()).unwrap_or(0);
@@ -301,6 +319,15 @@ impl<'a> OpenedLog<'a> {
     /// Data rows in the file (0 when it could not be parsed).
     pub fn rows(&self) -> usize {
         self.table.as_ref().map(|t| t.height()).unwrap_or(0)
+    }
+
+    /// What a report keeps of the log once it is read.
+    pub fn summary(&self) -> LogSummary {
+        LogSummary {
+            label: self.label.clone(),
+            input: self.input.clone(),
+            rows: self.rows(),
+        }
     }
 
     /// Validates the file in batches of about `batch_rows` rows, in order, handing

@@ -22,6 +22,35 @@ const ACCURACY_RATE_TOLERANCE: f64 = 1e-6;
 /// count) plus this much on the rate scale (rates logged with three or more decimals).
 const COUNT_RATE_TOLERANCE: f64 = 5e-4;
 
+/// The typed cells of one canonical column, and the problems of the cells that do
+/// not read as their kind.
+fn extract_column<'a>(
+    label: &str,
+    df: &DataFrame,
+    binding: &super::columns::ColumnBinding,
+    (name, kind): (&'static str, CellKind),
+    text: &'a Option<Series>,
+) -> (ColumnCells<'a>, Vec<Problem>) {
+    let mut problems = Vec::new();
+    let cells = match (binding.index.get(name), kind) {
+        (None, _) => ColumnCells::Absent,
+        (Some(&index), CellKind::Float) => {
+            ColumnCells::Float(extract_f64(label, df, index, &mut problems))
+        }
+        (Some(&index), CellKind::Integer) => {
+            ColumnCells::Integer(extract_i64(label, df, index, &mut problems))
+        }
+        (Some(_), CellKind::Text) => match text {
+            Some(series) => ColumnCells::Text(text_cells(series)),
+            None => ColumnCells::Absent,
+        },
+    };
+    (cells, problems)
+}
+
+/// Tables with fewer rows than this are read on one thread.
+const PARALLEL_ROWS: usize = 4096;
+
 /// A row that `--lenient` skipped, with every reason.
 #[derive(Clone, Debug, PartialEq, Eq, serde::Serialize, serde::Deserialize)]
 pub struct SkippedRow {
@@ -151,27 +180,21 @@ pub fn table_runs(
             _ => None,
         })
         .collect();
-    let extracted: Vec<(ColumnCells<'_>, Vec<Problem>)> = specs
-        .par_iter()
-        .zip(text_columns.par_iter())
-        .map(|(&(name, kind), text)| {
-            let mut problems = Vec::new();
-            let cells = match (binding.index.get(name), kind) {
-                (None, _) => ColumnCells::Absent,
-                (Some(&index), CellKind::Float) => {
-                    ColumnCells::Float(extract_f64(label, df, index, &mut problems))
-                }
-                (Some(&index), CellKind::Integer) => {
-                    ColumnCells::Integer(extract_i64(label, df, index, &mut problems))
-                }
-                (Some(_), CellKind::Text) => match text {
-                    Some(series) => ColumnCells::Text(text_cells(series)),
-                    None => ColumnCells::Absent,
-                },
-            };
-            (cells, problems)
-        })
-        .collect();
+    // Columns are independent passes: in parallel, except for small tables (a sweep's
+    // one-run files), where handing work to threads costs more than it saves.
+    let extracted: Vec<(ColumnCells<'_>, Vec<Problem>)> = if height < PARALLEL_ROWS {
+        specs
+            .iter()
+            .zip(text_columns.iter())
+            .map(|(spec, text)| extract_column(label, df, &binding, *spec, text))
+            .collect()
+    } else {
+        specs
+            .par_iter()
+            .zip(text_columns.par_iter())
+            .map(|(spec, text)| extract_column(label, df, &binding, *spec, text))
+            .collect()
+    };
     let mut columns: Vec<ColumnCells<'_>> = Vec::with_capacity(extracted.len());
     for (cells, mut problems) in extracted {
         cell_problems.append(&mut problems);
@@ -252,13 +275,26 @@ pub fn table_runs(
 
     // Rows are independent: assemble them in parallel, keeping their order (rayon's
     // partition keeps the order within each side), straight into runs and bad rows.
-    let (runs, bad_rows): (Vec<RunInput>, Vec<(usize, Vec<Problem>)>) = row_problems
-        .into_par_iter()
-        .enumerate()
-        .partition_map(|(i, found)| match table.assemble(i, found) {
-            Ok(run) => rayon::iter::Either::Left(run),
-            Err(problems) => rayon::iter::Either::Right((row_offset + i + 1, problems)),
-        });
+    let assemble = |(i, found): (usize, Vec<Problem>)| match table.assemble(i, found) {
+        Ok(run) => rayon::iter::Either::Left(run),
+        Err(problems) => rayon::iter::Either::Right((row_offset + i + 1, problems)),
+    };
+    let (runs, bad_rows): (Vec<RunInput>, Vec<(usize, Vec<Problem>)>) = if height < PARALLEL_ROWS {
+        let mut runs = Vec::with_capacity(height);
+        let mut bad_rows = Vec::new();
+        for item in row_problems.into_iter().enumerate() {
+            match assemble(item) {
+                rayon::iter::Either::Left(run) => runs.push(run),
+                rayon::iter::Either::Right(bad) => bad_rows.push(bad),
+            }
+        }
+        (runs, bad_rows)
+    } else {
+        row_problems
+            .into_par_iter()
+            .enumerate()
+            .partition_map(assemble)
+    };
     TableRuns {
         runs,
         bad_rows,
