@@ -67,6 +67,33 @@ pub enum Error {
     Input(Vec<Problem>),
     /// Reading or writing a file failed; the message names the file.
     Io(String),
+    /// The caller asked the audit to stop ([`Cancel`]).
+    Interrupted,
+}
+
+/// A flag a caller raises to stop an audit early (the Python package raises it on
+/// Ctrl-C): reading stops at the next file or batch and the audit returns
+/// [`Error::Interrupted`]. Every clone shares the flag. Settings that hold one compare
+/// equal whatever its state.
+#[derive(Clone, Debug, Default)]
+pub struct Cancel(std::sync::Arc<std::sync::atomic::AtomicBool>);
+
+impl Cancel {
+    /// Asks every holder of the flag to stop.
+    pub fn cancel(&self) {
+        self.0.store(true, std::sync::atomic::Ordering::Relaxed);
+    }
+
+    /// Whether stopping was asked.
+    pub fn is_cancelled(&self) -> bool {
+        self.0.load(std::sync::atomic::Ordering::Relaxed)
+    }
+}
+
+impl PartialEq for Cancel {
+    fn eq(&self, _: &Cancel) -> bool {
+        true
+    }
 }
 
 impl Error {
@@ -76,6 +103,7 @@ impl Error {
             Error::Usage(_) => "usage",
             Error::Input(_) => "input",
             Error::Io(_) => "io",
+            Error::Interrupted => "interrupted",
         }
     }
 }
@@ -84,6 +112,7 @@ impl fmt::Display for Error {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         match self {
             Error::Usage(message) | Error::Io(message) => write!(f, "{message}"),
+            Error::Interrupted => write!(f, "interrupted; nothing was written"),
             Error::Input(problems) => {
                 for problem in problems {
                     writeln!(f, "{problem}")?;

@@ -46,5 +46,5 @@ pub mod theory;
 pub mod timing;
 
 pub use api::{audit_discovered, audit_outcome, audit_paths, audit_paths_reporting, audit_sources};
-pub use error::{Error, Problem};
+pub use error::{Cancel, Error, Problem};
 pub use ingest::formats::install_panic_hook;

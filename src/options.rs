@@ -124,6 +124,7 @@ impl AuditOptions {
             column_map,
             default_claim_accuracy,
             claims_files: self.claims.clone(),
+            cancel: crate::error::Cancel::default(),
         };
         Ok((audit, ingest))
     }

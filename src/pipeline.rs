@@ -195,6 +195,9 @@ pub fn prepare<'a>(
             _ => held = None,
         }
     }
+    if settings.cancel.is_cancelled() {
+        return Err(Error::Interrupted);
+    }
     collected.finish(sources, runs)?;
     Ok(PreparedAudit {
         logs,

@@ -131,6 +131,9 @@ pub fn read_sources_reporting(
     let per_file: Vec<(LogSummary, Vec<RunInput>, FileReport)> = sources
         .par_iter()
         .map(|source| {
+            if settings.cancel.is_cancelled() {
+                return (LogSummary::default(), Vec::new(), FileReport::default());
+            }
             let log = OpenedLog::open(source, &settings.column_map);
             let mut runs = Vec::new();
             let report = log.validate(settings, usize::MAX, &mut |batch| {
@@ -143,6 +146,9 @@ pub fn read_sources_reporting(
         })
         .collect();
 
+    if settings.cancel.is_cancelled() {
+        return Err(Error::Interrupted);
+    }
     let mut outcome = IngestOutcome::default();
     let mut collected = Collected::default();
     for (log, runs, report) in per_file {
@@ -241,7 +247,7 @@ const PARALLEL_FILE_BYTES: usize = 1 << 20;
 
 /// What the report of an audit keeps of a log after reading it: its name, identity
 /// and hash, and how many rows it held (not its table).
-#[derive(Clone, Debug)]
+#[derive(Clone, Debug, Default)]
 pub struct LogSummary {
     pub label: String,
     pub input: Option<InputFile>,
@@ -384,6 +390,9 @@ impl<'a> OpenedLog<'a> {
                     break 'ranges;
                 }
                 if !batch.runs.is_empty() && !each(batch.runs) {
+                    break 'ranges;
+                }
+                if settings.cancel.is_cancelled() {
                     break 'ranges;
                 }
                 start += length;

@@ -15,4 +15,8 @@ pub struct IngestSettings {
     pub default_claim_accuracy: Option<f64>,
     /// Claims files (`--claims`, SPEC §10), read like logs.
     pub claims_files: Vec<std::path::PathBuf>,
+    /// Raised by the caller to stop reading (not a setting of the audit: never
+    /// recorded).
+    #[serde(skip)]
+    pub cancel: crate::error::Cancel,
 }

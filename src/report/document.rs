@@ -96,6 +96,7 @@ impl DocumentSettings {
             column_map: self.column_map.clone(),
             default_claim_accuracy: self.claim_accuracy,
             claims_files: self.claims.iter().map(std::path::PathBuf::from).collect(),
+            cancel: crate::error::Cancel::default(),
         }
     }
 }

@@ -162,3 +162,48 @@ pub fn write_splits_markdown(splits: &[SplitEntry], out: &mut dyn Write) -> io::
     }
     writeln!(out)
 }
+
+/// The splits as a polars DataFrame, one row per split with the fields of the JSON
+/// entries (the wear history as JSON text), for programs that embed gapcert.
+pub fn splits_frame(splits: &[SplitEntry]) -> polars::prelude::PolarsResult<polars::prelude::DataFrame> {
+    use polars::prelude::*;
+    let text = |name: &str, f: &dyn Fn(&SplitEntry) -> Option<String>| -> Column {
+        Series::new(name.into(), splits.iter().map(f).collect::<Vec<_>>()).into()
+    };
+    let float = |name: &str, f: &dyn Fn(&SplitEntry) -> Option<f64>| -> Column {
+        Series::new(name.into(), splits.iter().map(f).collect::<Vec<_>>()).into()
+    };
+    let count = |name: &str, f: &dyn Fn(&SplitEntry) -> Option<u64>| -> Column {
+        Series::new(name.into(), splits.iter().map(f).collect::<Vec<_>>()).into()
+    };
+    let columns = vec![
+        text("split", &|s| Some(s.split.clone())),
+        count("holdout_n", &|s| Some(s.holdout_n)),
+        count("candidates", &|s| Some(s.candidates)),
+        count("runs", &|s| Some(s.runs)),
+        text("first_logged_at", &|s| s.first_logged_at.clone()),
+        text("last_logged_at", &|s| s.last_logged_at.clone()),
+        text("best_run", &|s| Some(s.best_run.clone())),
+        float("best_error_rate", &|s| Some(s.best_error_rate)),
+        count("best_misclassified", &|s| Some(s.best_misclassified)),
+        float("claim_error_rate", &|s| s.claim_error_rate),
+        float("certifiable_now", &|s| Some(s.certifiable_now)),
+        float("certifiable_fresh", &|s| Some(s.certifiable_fresh)),
+        float("reuse_cost", &|s| Some(s.reuse_cost)),
+        count("comparisons_left", &|s| s.comparisons_left),
+        text("size_mismatch", &|s| Some(s.size_mismatch.to_string())),
+        float("delta", &|s| Some(s.delta)),
+        text("history", &|s| serde_json::to_string(&s.history).ok()),
+    ];
+    DataFrame::new(splits.len(), columns)
+}
+
+/// A DataFrame as Arrow IPC file bytes (what a Python caller reads back without loss).
+pub fn ipc_bytes(frame: &mut polars::prelude::DataFrame) -> std::io::Result<Vec<u8>> {
+    use polars::prelude::*;
+    let mut bytes = Vec::new();
+    IpcWriter::new(&mut bytes)
+        .finish(frame)
+        .map_err(std::io::Error::other)?;
+    Ok(bytes)
+}
