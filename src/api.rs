@@ -7,7 +7,7 @@
 
 use crate::audit::claims::evaluate_claims;
 use crate::audit::splits::split_entries;
-use crate::audit::{audit_runs_checked, summarize, AuditSettings};
+use crate::audit::{audit_runs_cancellable, summarize, AuditSettings};
 use crate::error::Error;
 use crate::ingest::claims::{read_claims, ClaimsRead, ClaimsSource};
 use crate::ingest::{self, IngestOutcome, IngestSettings, LogSource};
@@ -22,8 +22,14 @@ pub fn audit_outcome(
     ingest_settings: &IngestSettings,
 ) -> Result<AuditDocument, Error> {
     let started = std::time::Instant::now();
-    let (runs, delta) =
-        audit_runs_checked(outcome.runs, claims.claims.len() as u64, audit_settings)?;
+    let mut inputs = outcome.runs;
+    let copies_set_aside = outcome.copies_set_aside + crate::run::set_aside_copies(&mut inputs);
+    let (runs, delta) = audit_runs_cancellable(
+        inputs,
+        claims.claims.len() as u64,
+        audit_settings,
+        &ingest_settings.cancel,
+    )?;
     crate::timing::phase("audit", started);
     // Every problem at once: the claims files' own, then those of the joins.
     let mut problems = claims.problems;
@@ -44,7 +50,8 @@ pub fn audit_outcome(
     }
     summary.apply_gate(audit_settings.gate);
     summary.rows_skipped = outcome.skipped_rows.len() + outcome.rows_in_skipped_files;
-    summary.rows_read = runs.len() + summary.rows_skipped;
+    summary.copies_set_aside = copies_set_aside;
+    summary.rows_read = runs.len() + summary.rows_skipped + copies_set_aside;
     summary.files_skipped = outcome.skipped_files.len();
     Ok(AuditDocument {
         tool: ToolInfo::current(),
@@ -59,6 +66,7 @@ pub fn audit_outcome(
         skipped_rows: outcome.skipped_rows,
         skipped_files: outcome.skipped_files,
         cautions: CAUTIONS.iter().map(|c| c.to_string()).collect(),
+        notes: outcome.notes,
     })
 }
 
@@ -99,7 +107,11 @@ pub fn audit_discovered(
     let started = std::time::Instant::now();
     let outcome = ingest::read_discovered(discovery, ingest_settings, progress);
     crate::timing::phase("ingest", started);
-    let claims = read_claims(&claims_files(ingest_settings), ingest_settings.percent);
+    let claims = read_claims(
+        &claims_files(ingest_settings),
+        ingest_settings.percent,
+        crate::ingest::formats::Delimited::of(ingest_settings),
+    );
     audit_outcome_of(outcome, claims, audit_settings, ingest_settings)
 }
 
@@ -127,7 +139,11 @@ pub fn audit_sources_with_claims(
     ingest_settings: &IngestSettings,
 ) -> Result<AuditDocument, Error> {
     let outcome = ingest::read_sources(sources, ingest_settings);
-    let claims = read_claims(claims, ingest_settings.percent);
+    let claims = read_claims(
+        claims,
+        ingest_settings.percent,
+        crate::ingest::formats::Delimited::of(ingest_settings),
+    );
     audit_outcome_of(outcome, claims, audit_settings, ingest_settings)
 }
 

@@ -90,9 +90,10 @@ pub struct AuditFlags {
     /// JSON object of canonical → their column names.
     #[arg(long, value_name = "FILE")]
     pub map_file: Option<PathBuf>,
-    /// Output format.
-    #[arg(long, value_enum, default_value_t = ReportFormatArg::Table)]
-    pub format: ReportFormatArg,
+    /// Output format [default: from the extension of --output (.json, .ndjson,
+    /// .jsonl, .csv, .parquet, .md, .xml for junit), else table].
+    #[arg(long, value_enum)]
+    pub format: Option<ReportFormatArg>,
     /// Write the report to FILE (atomically) instead of standard output.
     #[arg(long, short = 'o', value_name = "FILE")]
     pub output: Option<PathBuf>,
@@ -114,6 +115,18 @@ pub struct AuditFlags {
     /// Also write the claims flat to FILE (.ndjson, .csv or .parquet).
     #[arg(long, value_name = "FILE")]
     pub claims_output: Option<PathBuf>,
+    /// The field separator of delimited logs (one character, or \t for a tab)
+    /// [default: `,` for .csv, a tab for .tsv].
+    #[arg(long, value_name = "C")]
+    pub separator: Option<String>,
+    /// Delimited logs write decimal numbers with a comma (0,93), as spreadsheet
+    /// exports in many locales do (usually with --separator ';').
+    #[arg(long)]
+    pub decimal_comma: bool,
+    /// Extra columns carried into every output (comma-separated names), such as
+    /// git_commit,dataset_version.
+    #[arg(long, value_name = "COLUMNS", value_delimiter = ',')]
+    pub keep: Vec<String>,
     /// A finding that does not fail the gate (repeatable, or comma-separated).
     #[arg(long = "gate-allow", value_name = "CODE", value_delimiter = ',')]
     pub gate_allow: Vec<String>,
@@ -304,6 +317,8 @@ pub enum ReportFormatArg {
     Csv,
     Parquet,
     Markdown,
+    /// JUnit XML: one test case per claim, for CI systems.
+    Junit,
 }
 
 #[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]

@@ -40,6 +40,7 @@ pub fn exercise(data: &[u8], format: LogFormat) {
                 OutputFormat::Ndjson,
                 OutputFormat::Csv,
                 OutputFormat::Markdown,
+                OutputFormat::Junit,
             ] {
                 let mut sink = Vec::new();
                 let _ =

@@ -31,6 +31,12 @@ pub struct AuditOptions {
     pub gate_allow: Vec<String>,
     /// Claims files (`--claims`).
     pub claims: Vec<PathBuf>,
+    /// `--separator`: one character, or `\t` / `tab`.
+    pub separator: Option<String>,
+    /// `--decimal-comma`.
+    pub decimal_comma: bool,
+    /// `--keep`: extra columns carried into every output.
+    pub keep: Vec<String>,
 }
 
 impl Default for AuditOptions {
@@ -50,6 +56,9 @@ impl Default for AuditOptions {
             gate: Gate::Unproven,
             gate_allow: Vec::new(),
             claims: Vec::new(),
+            separator: None,
+            decimal_comma: false,
+            keep: Vec::new(),
         }
     }
 }
@@ -70,6 +79,7 @@ impl AuditOptions {
             None => None,
         };
         let mut column_map: Vec<(String, String)> = Vec::new();
+        let mut sections = Vec::new();
         if let Some(path) = &self.map_file {
             let text = std::fs::read_to_string(path).map_err(|error| {
                 Error::Usage(format!(
@@ -78,10 +88,11 @@ impl AuditOptions {
                     describe_io_error(&error)
                 ))
             })?;
-            column_map.extend(
+            let (pairs, file_sections) =
                 columns::parse_map_file(&path.display().to_string(), &text)
-                    .map_err(Error::Usage)?,
-            );
+                    .map_err(Error::Usage)?;
+            column_map.extend(pairs);
+            sections = file_sections;
         }
         for pair in &self.map {
             let pair = columns::parse_map_pair(pair).map_err(Error::Usage)?;
@@ -125,6 +136,10 @@ impl AuditOptions {
             default_claim_accuracy,
             claims_files: self.claims.clone(),
             cancel: crate::error::Cancel::default(),
+            sections,
+            separator: self.separator.as_deref().map(check_separator).transpose()?,
+            decimal_comma: self.decimal_comma,
+            keep: check_keep(&self.keep)?,
         };
         Ok((audit, ingest))
     }
@@ -202,4 +217,46 @@ pub fn check_fraction(flag: &str, value: f64) -> Result<f64, Error> {
     } else {
         Err(Error::Usage(format!("{flag} {value} is outside [0, 1]")))
     }
+}
+
+/// `--separator`: one ASCII character that cannot be part of a number or a quote; a
+/// tab may be written `\t` or `tab`.
+pub fn check_separator(text: &str) -> Result<u8, Error> {
+    let byte = match text {
+        "\\t" | "\t" | "tab" => b'\t',
+        one if one.len() == 1 && one.is_ascii() => one.as_bytes()[0],
+        _ => {
+            return Err(Error::Usage(format!(
+                "--separator {text:?}: give one character, such as ';' or '|' (or \\t for a tab)"
+            )))
+        }
+    };
+    if byte.is_ascii_alphanumeric() || matches!(byte, b'"' | b'.' | b'-' | b'+' | b'\n' | b'\r') {
+        return Err(Error::Usage(format!(
+            "--separator {text:?}: that character is part of numbers or quoting; choose another"
+        )));
+    }
+    Ok(byte)
+}
+
+/// `--keep`: names of extra columns, each once.
+pub fn check_keep(names: &[String]) -> Result<Vec<String>, Error> {
+    let mut kept: Vec<String> = Vec::new();
+    for name in names.iter().map(|n| n.trim()).filter(|n| !n.is_empty()) {
+        if kept.iter().any(|k| k.eq_ignore_ascii_case(name)) {
+            return Err(Error::Usage(format!("--keep names `{name}` twice")));
+        }
+        // A kept column sits beside gapcert's own in the flat formats: one name, one
+        // column.
+        if crate::report::flat::FLAT_COLUMNS
+            .iter()
+            .any(|own| own.eq_ignore_ascii_case(name))
+        {
+            return Err(Error::Usage(format!(
+                "--keep `{name}`: every output already has a column of that name (gapcert's own); keep columns gapcert does not write"
+            )));
+        }
+        kept.push(name.to_string());
+    }
+    Ok(kept)
 }

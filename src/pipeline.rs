@@ -17,8 +17,6 @@ use std::path::PathBuf;
 use std::sync::atomic::{AtomicUsize, Ordering};
 use std::sync::mpsc;
 
-use rayon::prelude::*;
-
 use crate::audit::splits::{SplitAccumulator, SplitObservation};
 use crate::audit::{AuditScope, AuditSettings, Auditor, RunResult, Summary, Verdict};
 use crate::error::Error;
@@ -27,7 +25,7 @@ use crate::ingest::{
     SkippedFile, SkippedRow,
 };
 use crate::report::document::{AuditDocument, DocumentSettings, ToolInfo, CAUTIONS};
-use crate::run::RunInput;
+use crate::run::{RowDecisions, RunInput, RunKey};
 
 /// Batch sizes of the streaming audit.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
@@ -72,6 +70,14 @@ pub struct PreparedAudit<'a> {
     pub skipped_files: Vec<SkippedFile>,
     /// Data rows of the logs skipped whole under `--lenient`.
     pub rows_in_skipped_files: usize,
+    /// `file: note` lines worth saying under `-v`.
+    pub notes: Vec<String>,
+    /// Files identical to an earlier one, named by the runs of the earlier one.
+    file_copies: ingest::FileCopies,
+    /// Per log index: the copies found by key in a stream too long to hold.
+    stream_copies: std::collections::BTreeMap<u32, RowDecisions>,
+    /// Runs read twice and counted once (see [`crate::run::set_aside_copies`]).
+    pub copies_set_aside: usize,
 }
 
 /// What one log's first pass produced.
@@ -80,6 +86,13 @@ struct FirstPass {
     scope: AuditScope,
     runs: usize,
     held: Option<Vec<Vec<RunInput>>>,
+    /// Keys of the runs not held (log index 0: set when the logs are merged).
+    keys: Vec<RunKey>,
+}
+
+/// The keys of runs (of log 0) for setting aside copies in a stream.
+fn keys_of(runs: &[RunInput]) -> impl Iterator<Item = RunKey> + '_ {
+    runs.iter().filter_map(|run| RunKey::of(run, 0))
 }
 
 /// The first pass over the logs found at `paths` (files or folders).
@@ -121,13 +134,15 @@ pub fn prepare<'a>(
     ingest::columns::check_column_map(&settings.column_map).map_err(Error::Usage)?;
     let done = AtomicUsize::new(0);
     let held_runs = AtomicUsize::new(0);
-    let (logs, passes): (Vec<(PassedLog<'a>, LogSummary)>, Vec<FirstPass>) = sources
-        .par_iter()
-        .map(|source| {
-            let log = OpenedLog::open(source, &settings.column_map);
+    let (logs, passes): (Vec<(PassedLog<'a>, LogSummary)>, Vec<FirstPass>) =
+        ingest::map_files(sources, |source| {
+            let settings = settings.for_file(&ingest::source_label(source));
+            let settings = settings.as_ref();
+            let log = OpenedLog::open(source, settings);
             let mut scope = AuditScope::default();
             let mut runs = 0;
             let mut held: Option<Vec<Vec<RunInput>>> = Some(Vec::new());
+            let mut keys = Vec::new();
             let report = log.validate(settings, limits.batch_rows, &mut |batch| {
                 for run in &batch {
                     scope.observe(run);
@@ -136,7 +151,13 @@ pub fn prepare<'a>(
                 let total = held_runs.fetch_add(batch.len(), Ordering::Relaxed) + batch.len();
                 match &mut held {
                     Some(batches) if total <= limits.hold_runs => batches.push(batch),
-                    _ => held = None,
+                    _ => {
+                        // Runs dropped here are compared by key for copies.
+                        for dropped in held.take().into_iter().flatten() {
+                            keys.extend(keys_of(&dropped));
+                        }
+                        keys.extend(keys_of(&batch));
+                    }
                 }
                 true
             });
@@ -149,6 +170,7 @@ pub fn prepare<'a>(
                 scope,
                 runs,
                 held,
+                keys,
             };
             (
                 (
@@ -161,6 +183,7 @@ pub fn prepare<'a>(
                 pass,
             )
         })
+        .into_iter()
         .unzip();
     let (logs, summaries): (Vec<PassedLog<'a>>, Vec<LogSummary>) = logs.into_iter().unzip();
 
@@ -170,7 +193,8 @@ pub fn prepare<'a>(
     let mut held: Option<Vec<Vec<RunInput>>> = Some(Vec::new());
     let mut runs = 0;
     let keep_all = held_runs.load(Ordering::Relaxed) <= limits.hold_runs;
-    for (summary, pass) in summaries.iter().zip(passes) {
+    let mut keys: Vec<RunKey> = Vec::new();
+    for (index, (summary, mut pass)) in summaries.iter().zip(passes).enumerate() {
         let use_log = collected.add(summary, pass.report, settings.lenient);
         usable.push(use_log);
         if !use_log {
@@ -178,6 +202,13 @@ pub fn prepare<'a>(
         }
         scope.merge(pass.scope);
         runs += pass.runs;
+        if !keep_all {
+            for batch in pass.held.take().into_iter().flatten() {
+                pass.keys.extend(keys_of(&batch));
+            }
+            let log = u32::try_from(index).unwrap_or(u32::MAX);
+            keys.extend(pass.keys.into_iter().map(|key| RunKey { log, ..key }));
+        }
         match (&mut held, pass.held) {
             (Some(all), Some(batches)) if keep_all => {
                 // Small logs give small batches: gather them into batches of about
@@ -198,20 +229,96 @@ pub fn prepare<'a>(
     if settings.cancel.is_cancelled() {
         return Err(Error::Interrupted);
     }
-    collected.finish(sources, runs)?;
+    collected.finish(sources, runs, &settings.keep)?;
+    let mut copies_set_aside = collected.copies_set_aside;
+    let mut stream_copies = std::collections::BTreeMap::new();
+    if held.is_none() {
+        // Too many runs to hold: copies are found by key, and the scope is counted
+        // again without them (a third reading, only when there are any).
+        let (decisions, set_aside) = crate::run::copies_among_keys(keys);
+        stream_copies = decisions;
+        if set_aside > 0 {
+            copies_set_aside += set_aside;
+            runs -= set_aside;
+            scope = rescope(&logs, &usable, &stream_copies, settings, limits)?;
+        }
+    } else if let Some(batches) = &mut held {
+        // Runs read twice (a row repeated, a log copied under another name with other
+        // bytes) count once. Only held runs can be compared: a stream of more runs than
+        // `hold_runs` sets aside identical files only.
+        for batch in batches.iter_mut() {
+            collected.file_copies.name_copies(batch);
+        }
+        let set_aside = crate::run::set_aside_copies_in_batches(batches);
+        if set_aside > 0 {
+            batches.retain(|batch| !batch.is_empty());
+            copies_set_aside += set_aside;
+            runs -= set_aside;
+            scope = AuditScope::default();
+            for run in batches.iter().flatten() {
+                scope.observe(run);
+            }
+        }
+    }
     Ok(PreparedAudit {
         logs,
         usable,
         held,
         scope,
         runs,
+        file_copies: std::mem::take(&mut collected.file_copies),
+        stream_copies,
+        copies_set_aside,
         settings: settings.clone(),
         limits,
         inputs: collected.inputs,
         skipped_rows: collected.skipped_rows,
         skipped_files: collected.skipped_files,
         rows_in_skipped_files: collected.rows_in_skipped_files,
+        notes: collected.notes,
     })
+}
+
+/// The scope of the usable logs' runs without the copies set aside by key.
+fn rescope(
+    logs: &[PassedLog<'_>],
+    usable: &[bool],
+    decisions: &std::collections::BTreeMap<u32, RowDecisions>,
+    settings: &IngestSettings,
+    limits: StreamLimits,
+) -> Result<AuditScope, Error> {
+    let no_sources = |_: u32, _: u64| Vec::new();
+    let mut scope = AuditScope::default();
+    for (index, (passed, &usable)) in logs.iter().zip(usable).enumerate() {
+        if !usable {
+            continue;
+        }
+        if settings.cancel.is_cancelled() {
+            return Err(Error::Interrupted);
+        }
+        let file_settings = settings.for_file(&ingest::source_label(&passed.source));
+        let reopened;
+        let log = match &passed.table {
+            Some(table) => table,
+            None => {
+                reopened = OpenedLog::open(&passed.source, &file_settings);
+                &reopened
+            }
+        };
+        let decision = u32::try_from(index)
+            .ok()
+            .and_then(|index| decisions.get(&index));
+        log.validate(&file_settings, limits.batch_rows, &mut |mut batch| {
+            if let Some(decision) = decision {
+                decision.apply(&mut batch, &no_sources);
+            }
+            for run in &batch {
+                scope.observe(run);
+            }
+            true
+        });
+    }
+    Ok(scope)
 }
 
 impl PreparedAudit<'_> {
@@ -270,8 +377,15 @@ impl PreparedAudit<'_> {
             skipped_rows,
             skipped_files,
             rows_in_skipped_files,
+            file_copies,
+            stream_copies,
+            copies_set_aside,
             ..
         } = self;
+        let labels: Vec<String> = logs
+            .iter()
+            .map(|log| ingest::source_label(&log.source))
+            .collect();
         // One batch in flight per stage bounds the memory to a few batches.
         let (inputs_out, inputs_in) = mpsc::sync_channel::<Vec<RunInput>>(1);
         let (results_out, results_in) = mpsc::sync_channel::<Vec<RunResult>>(1);
@@ -286,16 +400,34 @@ impl PreparedAudit<'_> {
                     }
                 }
                 None => {
-                    for (passed, usable) in logs.into_iter().zip(&usable) {
+                    let sources = |log: u32, row: u64| {
+                        let label = &labels[log as usize];
+                        let mut sources = vec![format!("{label}:{row}")];
+                        sources.extend(file_copies.copies_at(label, row));
+                        sources
+                    };
+                    for (index, (passed, usable)) in logs.into_iter().zip(&usable).enumerate() {
                         if !usable {
                             continue;
                         }
-                        let log = passed.table.unwrap_or_else(|| {
-                            OpenedLog::open(&passed.source, &settings.column_map)
-                        });
+                        let decisions = u32::try_from(index)
+                            .ok()
+                            .and_then(|index| stream_copies.get(&index));
+                        let file_settings =
+                            settings.for_file(&ingest::source_label(&passed.source));
+                        let log = passed
+                            .table
+                            .unwrap_or_else(|| OpenedLog::open(&passed.source, &file_settings));
                         // Bad rows were reported by the first pass; only runs matter now.
                         let mut stopped = false;
-                        log.validate(&settings, limits.batch_rows, &mut |batch| {
+                        log.validate(&file_settings, limits.batch_rows, &mut |mut batch| {
+                            file_copies.name_copies(&mut batch);
+                            if let Some(decisions) = decisions {
+                                decisions.apply(&mut batch, &sources);
+                                if batch.is_empty() {
+                                    return true;
+                                }
+                            }
                             stopped = inputs_out.send(batch).is_err();
                             !stopped
                         });
@@ -336,7 +468,8 @@ impl PreparedAudit<'_> {
         written?;
         let mut summary = counted;
         summary.rows_skipped = skipped_rows.len() + rows_in_skipped_files;
-        summary.rows_read = summary.runs + summary.rows_skipped;
+        summary.copies_set_aside = copies_set_aside;
+        summary.rows_read = summary.runs + summary.rows_skipped + copies_set_aside;
         summary.files_skipped = skipped_files.len();
         summary.apply_gate(audit_settings.gate);
         Ok(summary)
@@ -360,6 +493,7 @@ impl PreparedAudit<'_> {
         let delta = self.scope.delta(audit_settings);
         let mut splits = SplitAccumulator::default();
         let skipped_rows = self.skipped_rows.clone();
+        let notes = self.notes.clone();
         let skipped_files = self.skipped_files.clone();
         let mut kept: Vec<RunResult> = Vec::new();
         let order = crate::audit::result::worst_first;
@@ -414,6 +548,7 @@ impl PreparedAudit<'_> {
             skipped_rows,
             skipped_files,
             cautions: CAUTIONS.iter().map(|c| c.to_string()).collect(),
+            notes,
         })
     }
 }

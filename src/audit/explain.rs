@@ -192,6 +192,13 @@ pub fn finding_message(run: &RunResult, code: FindingCode, settings: &AuditSetti
             );
             gate_note(&mut text);
         }
+        FindingCode::RunIdRepeated => {
+            let _ = write!(
+                text,
+                "another run is logged under the identifier `{}` with different values: the identifier names more than one run (claims that name it cannot be joined); give each run its own",
+                run.run
+            );
+        }
         FindingCode::SplitSizeMismatch => {
             let _ = write!(
                 text,

@@ -19,6 +19,7 @@ pub enum FindingCode {
     ClaimLooksLikeAccuracy,
     HoldoutNEqualsTrainN,
     SplitSizeMismatch,
+    RunIdRepeated,
 }
 
 impl FindingCode {
@@ -36,11 +37,12 @@ impl FindingCode {
             FindingCode::ClaimLooksLikeAccuracy => "claim_looks_like_accuracy",
             FindingCode::HoldoutNEqualsTrainN => "holdout_n_equals_train_n",
             FindingCode::SplitSizeMismatch => "split_size_mismatch",
+            FindingCode::RunIdRepeated => "run_id_repeated",
         }
     }
 
     /// Every code, in the order reports list them.
-    pub const ALL: [FindingCode; 12] = [
+    pub const ALL: [FindingCode; 13] = [
         FindingCode::HoldoutReused,
         FindingCode::HoldoutSmall,
         FindingCode::GapBeyondTheory,
@@ -53,6 +55,7 @@ impl FindingCode {
         FindingCode::ClaimLooksLikeAccuracy,
         FindingCode::HoldoutNEqualsTrainN,
         FindingCode::SplitSizeMismatch,
+        FindingCode::RunIdRepeated,
     ];
 
     /// The code spelled as in reports.

@@ -19,7 +19,7 @@ use rayon::prelude::*;
 
 pub use finding::{Finding, FindingCode};
 pub use per_run::{audit_run, holdout_needed_for, RunContext};
-pub use result::{GateResult, RunResult, Summary, Verdict};
+pub use result::{gate_fails_on_claim, gate_fails_on_run, GateResult, RunResult, Summary, Verdict};
 
 pub use settings::{AuditSettings, Gate, HoldoutBound};
 
@@ -195,6 +195,34 @@ pub fn audit_runs_checked(
     scope.add_claims(extra_claims);
     scope.check(settings)?;
     let results = Auditor::new(&scope, settings).audit(inputs);
+    Ok((results, scope.delta(settings)))
+}
+
+/// [`audit_runs_checked`] in batches, stopping with [`Error::Interrupted`] soon after
+/// `cancel` is raised (a Ctrl-C in a notebook during a long audit).
+pub fn audit_runs_cancellable(
+    inputs: Vec<RunInput>,
+    extra_claims: u64,
+    settings: &AuditSettings,
+    cancel: &crate::error::Cancel,
+) -> Result<(Vec<RunResult>, f64), Error> {
+    const BATCH: usize = 1 << 16;
+    let mut scope = AuditScope::of(&inputs);
+    scope.add_claims(extra_claims);
+    scope.check(settings)?;
+    let auditor = Auditor::new(&scope, settings);
+    let mut results = Vec::with_capacity(inputs.len());
+    let mut inputs = inputs.into_iter();
+    loop {
+        if cancel.is_cancelled() {
+            return Err(Error::Interrupted);
+        }
+        let batch: Vec<RunInput> = inputs.by_ref().take(BATCH).collect();
+        if batch.is_empty() {
+            break;
+        }
+        results.extend(auditor.audit(batch));
+    }
     Ok((results, scope.delta(settings)))
 }
 

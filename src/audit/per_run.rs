@@ -158,6 +158,9 @@ pub fn audit_run(input: RunInput, context: RunContext, settings: &AuditSettings)
     if context.split_size_mismatch {
         note(FindingCode::SplitSizeMismatch);
     }
+    if input.id_repeated {
+        note(FindingCode::RunIdRepeated);
+    }
     let mut result = RunResult {
         run: input.run,
         source: input.source,
@@ -188,6 +191,8 @@ pub fn audit_run(input: RunInput, context: RunContext, settings: &AuditSettings)
         train_needed: context.train_needed,
         findings,
         logged_at: input.logged_at,
+        copies: input.copies,
+        kept: input.kept,
         model: input.family,
         candidates_logged: input.candidates,
     };

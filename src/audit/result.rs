@@ -73,6 +73,12 @@ pub struct RunResult {
     pub train_needed: Option<u64>,
     pub findings: Vec<Finding>,
     pub logged_at: Option<String>,
+    /// Sources of identical runs read elsewhere and set aside (a copied log).
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub copies: Vec<String>,
+    /// The `--keep` columns, as an object of name → text.
+    #[serde(default, skip_serializing_if = "Vec::is_empty", with = "kept_columns")]
+    pub kept: Vec<(String, Option<String>)>,
     /// The resolved family, for claims about the generalization gap (the theory
     /// route needs Ω at their own level). Not written out: `family` names it.
     #[serde(skip)]
@@ -115,13 +121,17 @@ pub struct Summary {
     pub unproven: usize,
     pub refuted: usize,
     pub no_claim: usize,
-    /// Rows read from the inputs (audited plus skipped).
+    /// Rows read from the inputs (audited plus skipped plus copies set aside).
     pub rows_read: usize,
     /// Rows skipped under `--lenient`: bad rows, plus every row of a log skipped
     /// whole.
     pub rows_skipped: usize,
     /// Files in folders that are not logs, plus logs skipped under `--lenient`.
     pub files_skipped: usize,
+    /// Runs read more than once and counted once: rows of files identical to an
+    /// earlier file, and runs equal in every canonical field to an earlier run of the
+    /// same identifier (the kept run lists their sources in `copies`).
+    pub copies_set_aside: usize,
     /// Runs whose held-out split is unknown, so reuse could not be checked.
     pub reuse_unchecked: usize,
     /// Runs with a claim and a finding that fails the gate (a slip of scale or of
@@ -168,7 +178,9 @@ impl Summary {
         }
     }
 
-    /// Sets `gate` from the counts (runs' claims and the claims files' alike).
+    /// Sets `gate` from the counts (runs' claims and the claims files' alike): it
+    /// fails exactly when [`gate_fails_on_run`] or [`gate_fails_on_claim`] holds for
+    /// some run or claim.
     pub fn apply_gate(&mut self, gate: Gate) {
         let (unproven, refuted) = (
             self.unproven + self.claims_unproven,
@@ -187,10 +199,71 @@ impl Summary {
     }
 }
 
+/// Whether `gate` fails on this run: a run with a claim that is not certified
+/// (`unproven`) or refuted (`refuted`), or whose findings suggest a slip not allowed
+/// by `gate_allow`. Runs without a claim never fail it.
+pub fn gate_fails_on_run(run: &RunResult, gate: Gate, gate_allow: &[FindingCode]) -> bool {
+    if run.verdict == Verdict::NoClaim {
+        return false;
+    }
+    let slip = run
+        .findings
+        .iter()
+        .any(|f| f.code.blocks_gate() && !gate_allow.contains(&f.code));
+    match gate {
+        Gate::Unproven => run.verdict != Verdict::Certified || slip,
+        Gate::Refuted => run.verdict == Verdict::Refuted || slip,
+        Gate::Never => false,
+    }
+}
+
+/// Whether `gate` fails on a claim of a claims file with this verdict.
+pub fn gate_fails_on_claim(verdict: Verdict, gate: Gate) -> bool {
+    match gate {
+        Gate::Unproven => verdict != Verdict::Certified,
+        Gate::Refuted => verdict == Verdict::Refuted,
+        Gate::Never => false,
+    }
+}
+
 #[derive(Clone, Copy, Debug, Default, PartialEq, Eq, Serialize, Deserialize)]
 #[serde(rename_all = "lowercase")]
 pub enum GateResult {
     #[default]
     Pass,
     Fail,
+}
+
+/// `kept` written as a JSON object in the order asked, and read back.
+mod kept_columns {
+    use serde::ser::SerializeMap;
+    use serde::{Deserialize, Deserializer, Serializer};
+
+    pub fn serialize<S: Serializer>(
+        kept: &[(String, Option<String>)],
+        serializer: S,
+    ) -> Result<S::Ok, S::Error> {
+        let mut map = serializer.serialize_map(Some(kept.len()))?;
+        for (name, value) in kept {
+            map.serialize_entry(name, value)?;
+        }
+        map.end()
+    }
+
+    pub fn deserialize<'de, D: Deserializer<'de>>(
+        deserializer: D,
+    ) -> Result<Vec<(String, Option<String>)>, D::Error> {
+        let map = serde_json::Map::<String, serde_json::Value>::deserialize(deserializer)?;
+        Ok(map
+            .into_iter()
+            .map(|(name, value)| {
+                let text = match value {
+                    serde_json::Value::Null => None,
+                    serde_json::Value::String(text) => Some(text),
+                    other => Some(other.to_string()),
+                };
+                (name, text)
+            })
+            .collect())
+    }
 }

@@ -144,7 +144,7 @@ fn run_in_memory(
     };
     progress.finish();
     let doc = result?;
-    list_skipped(terminal, &doc.skipped_files, &doc.skipped_rows);
+    list_skipped(terminal, &doc.skipped_files, &doc.skipped_rows, &doc.notes);
 
     if let Some(path) = &flags.certificate {
         let paths: Vec<String> = match spec {
@@ -198,10 +198,13 @@ fn emit_report(
     }
 }
 
-/// With `-v`, names every skipped file and row on stderr.
-fn list_skipped(terminal: Terminal, files: &[SkippedFile], rows: &[SkippedRow]) {
+/// With `-v`, names every skipped file and row on stderr, and what reading noticed.
+fn list_skipped(terminal: Terminal, files: &[SkippedFile], rows: &[SkippedRow], notes: &[String]) {
     if !terminal.verbose || terminal.quiet {
         return;
+    }
+    for note in notes {
+        eprintln!("note: {}", printable(note));
     }
     for skipped in files {
         eprintln!(
@@ -237,7 +240,12 @@ fn run_keeping_worst(
             return Err(error);
         }
     };
-    list_skipped(terminal, &prepared.skipped_files, &prepared.skipped_rows);
+    list_skipped(
+        terminal,
+        &prepared.skipped_files,
+        &prepared.skipped_rows,
+        &prepared.notes,
+    );
     let keep = request
         .presentation
         .top
@@ -317,13 +325,19 @@ fn run_streaming(
         progress.finish();
         return Err(error);
     }
-    list_skipped(terminal, &prepared.skipped_files, &prepared.skipped_rows);
+    list_skipped(
+        terminal,
+        &prepared.skipped_files,
+        &prepared.skipped_rows,
+        &prepared.notes,
+    );
     progress.auditing(prepared.runs());
     let started = std::time::Instant::now();
     let mut summary = None;
     let stream = |out: &mut dyn Write| -> io::Result<()> {
         if format == OutputFormat::Csv {
-            report::flat::write_csv_header(out)?;
+            let kept: Vec<&str> = request.ingest.keep.iter().map(String::as_str).collect();
+            report::flat::write_csv_header(&kept, out)?;
         }
         // Lines are formatted on a stage of their own, so this thread only copies
         // bytes out while the next batches are audited and formatted.

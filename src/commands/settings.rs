@@ -46,12 +46,16 @@ pub fn resolve_audit(flags: &AuditFlags) -> Result<AuditRequest, Error> {
         },
         gate_allow: flags.gate_allow.clone(),
         claims: flags.claims.clone(),
+        separator: flags.separator.clone(),
+        decimal_comma: flags.decimal_comma,
+        keep: flags.keep.clone(),
     };
+    let format = output_format(flags.format, flags.output.as_deref())?;
     let (audit, ingest) = options.resolve()?;
     Ok(AuditRequest {
         audit,
         ingest,
-        format: report_format(flags.format),
+        format,
         gate_given: flags.gate.is_some(),
         presentation: presentation(flags),
     })
@@ -79,6 +83,43 @@ fn presentation(flags: &AuditFlags) -> Presentation {
     }
 }
 
+/// The format an output file's extension names, if any.
+fn format_of_extension(path: &std::path::Path) -> Option<OutputFormat> {
+    let extension = path.extension()?.to_str()?.to_ascii_lowercase();
+    Some(match extension.as_str() {
+        "json" => OutputFormat::Json,
+        "ndjson" | "jsonl" => OutputFormat::Ndjson,
+        "csv" => OutputFormat::Csv,
+        "parquet" => OutputFormat::Parquet,
+        "md" | "markdown" => OutputFormat::Markdown,
+        "xml" => OutputFormat::Junit,
+        _ => return None,
+    })
+}
+
+/// `--format`, or the format `--output`'s extension names (a table written to
+/// `audit.csv` would be read back as a broken log). A format that contradicts the
+/// extension is a usage error: one of the two is a slip.
+pub fn output_format(
+    format: Option<ReportFormatArg>,
+    output: Option<&std::path::Path>,
+) -> Result<OutputFormat, Error> {
+    let named = output.and_then(format_of_extension);
+    match (format.map(report_format), named) {
+        (None, named) => Ok(named.unwrap_or(OutputFormat::Table)),
+        (Some(format), Some(named)) if format != named => {
+            let path = output.map(|p| p.display().to_string()).unwrap_or_default();
+            Err(Error::Usage(format!(
+                "--format {} writes {}, but --output {path} names {} by its extension; change one of them",
+                format.name(),
+                format.description(),
+                named.description()
+            )))
+        }
+        (Some(format), _) => Ok(format),
+    }
+}
+
 /// `--format` of audits.
 pub fn report_format(format: ReportFormatArg) -> OutputFormat {
     match format {
@@ -88,6 +129,7 @@ pub fn report_format(format: ReportFormatArg) -> OutputFormat {
         ReportFormatArg::Csv => OutputFormat::Csv,
         ReportFormatArg::Parquet => OutputFormat::Parquet,
         ReportFormatArg::Markdown => OutputFormat::Markdown,
+        ReportFormatArg::Junit => OutputFormat::Junit,
     }
 }
 

@@ -51,7 +51,11 @@ pub enum ClaimsSource<'a> {
 /// Reads every claims file: the valid claims and the problems of the others (a file
 /// that cannot be found or read at all is an error). `percent`: values are
 /// percentages (as with `--percent` for the logs).
-pub fn read_claims(sources: &[ClaimsSource<'_>], percent: bool) -> Result<ClaimsRead, Error> {
+pub fn read_claims(
+    sources: &[ClaimsSource<'_>],
+    percent: bool,
+    delimited: formats::Delimited,
+) -> Result<ClaimsRead, Error> {
     let mut read = ClaimsRead::default();
     let mut problems = Vec::new();
     for source in sources {
@@ -83,12 +87,19 @@ pub fn read_claims(sources: &[ClaimsSource<'_>], percent: bool) -> Result<Claims
             sha256: hex(&Sha256::digest(&bytes)),
             rows: 0,
         });
-        match formats::read_table(&label, &bytes, format, &[]) {
+        match formats::read_table(&label, &bytes, format, &[], delimited) {
             Err(found) => problems.extend(found),
             Ok((df, cell_problems)) => {
                 let before = read.claims.len();
                 problems.extend(cell_problems);
-                claims_of_table(&label, &df, percent, &mut read.claims, &mut problems);
+                claims_of_table(
+                    &label,
+                    &df,
+                    percent,
+                    delimited.decimal_comma,
+                    &mut read.claims,
+                    &mut problems,
+                );
                 if let Some(input) = read.inputs.last_mut() {
                     input.rows = df.height();
                 }
@@ -121,6 +132,7 @@ fn claims_of_table(
     label: &str,
     df: &polars::prelude::DataFrame,
     percent: bool,
+    decimal_comma: bool,
     claims: &mut Vec<ClaimInput>,
     problems: &mut Vec<Problem>,
 ) {
@@ -169,7 +181,7 @@ fn claims_of_table(
         cells(&baseline_s, height),
     );
     let mut cell_problems = Vec::new();
-    let values = extract_f64(label, df, value_at, &mut cell_problems);
+    let values = extract_f64(label, df, value_at, decimal_comma, &mut cell_problems);
     let counts = |column: &str, problems: &mut Vec<Problem>| match index(column) {
         Some(at) => extract_i64(label, df, at, problems),
         None => vec![None; height],

@@ -55,10 +55,16 @@ pub const FIRST_PARAMETER_SLOT: usize = COLUMNS_BEFORE_PARAMETERS.len();
 /// The position of the first column after the family parameters.
 pub const FIRST_SLOT_AFTER_PARAMETERS: usize = FIRST_PARAMETER_SLOT + FAMILY_PARAMETERS.len();
 
-/// Which column of a file holds each canonical field: canonical name → column index.
+/// Which column of a file holds each canonical field: canonical name → column index;
+/// and what binding them found: columns that claim one field together (an input
+/// error) and renames that did not apply to this file (said under `-v`).
 #[derive(Debug, Default)]
 pub struct ColumnBinding {
     pub index: HashMap<&'static str, usize>,
+    /// Two or more columns that would all hold one canonical field.
+    pub ambiguities: Vec<String>,
+    /// Renames that do not apply to this file, and what was read instead.
+    pub notes: Vec<String>,
 }
 
 /// Validates renames: the canonical side must be a known column, the log side not
@@ -114,24 +120,113 @@ pub fn parse_map_pair(text: &str) -> Result<(String, String), String> {
     }
 }
 
-/// Parses a `--map-file`: a JSON object of canonical → their column name. A key
-/// written twice is an error (JSON readers keep one of them silently).
-pub fn parse_map_file(label: &str, text: &str) -> Result<Vec<(String, String)>, String> {
+/// Parses a `--map-file`: a JSON object of canonical → their column name, and
+/// optionally `"files"`, a list of sections that apply to the files a pattern
+/// matches, each with its own renames and `--percent` setting:
+///
+/// ```json
+/// {"holdout_n": "n_val",
+///  "files": [{"match": "*notebooks*", "map": {"holdout_accuracy": "val_acc"}, "percent": true}]}
+/// ```
+///
+/// A key written twice is an error (JSON readers keep one of them silently).
+pub fn parse_map_file(label: &str, text: &str) -> Result<MapFile, String> {
     let entries = parse_object_unique(text).map_err(|error| format!("{label}: {error}"))?;
     let mut pairs = Vec::with_capacity(entries.len());
+    let mut sections = Vec::new();
     for (canonical, theirs) in entries {
-        match theirs {
-            serde_json::Value::String(theirs) => {
+        match (canonical.as_str(), theirs) {
+            ("files", serde_json::Value::Array(items)) => {
+                for (index, item) in items.into_iter().enumerate() {
+                    sections.push(parse_section(label, index + 1, item)?);
+                }
+            }
+            ("files", other) => {
+                return Err(format!(
+                    "{label}: `files` must be a list of sections such as {{\"match\": \"*notebooks*\", \"map\": {{...}}, \"percent\": true}}, not {other}"
+                ))
+            }
+            (_, serde_json::Value::String(theirs)) => {
                 pairs.push((canonical.trim().to_ascii_lowercase(), theirs))
             }
-            other => {
+            (_, other) => {
                 return Err(format!(
                     "{label}: the value for `{canonical}` must be a column name (text), not {other}"
                 ))
             }
         }
     }
-    Ok(pairs)
+    Ok((pairs, sections))
+}
+
+/// A map file: its renames for every file, and its sections.
+pub type MapFile = (Vec<(String, String)>, Vec<MapSection>);
+
+/// The renames and the scale of the files a pattern matches (`files` of a map file).
+#[derive(Clone, Debug, Default, PartialEq, serde::Serialize, serde::Deserialize)]
+pub struct MapSection {
+    /// Matched against the file's path as found (`*` any characters, `/` included;
+    /// `?` one), and against its name alone.
+    #[serde(rename = "match")]
+    pub pattern: String,
+    pub map: Vec<(String, String)>,
+    /// Rates and claims of these files are percentages (true) or fractions (false);
+    /// None keeps `--percent`.
+    pub percent: Option<bool>,
+}
+
+impl MapSection {
+    /// Whether the section applies to the file `label`.
+    pub fn applies_to(&self, label: &str) -> bool {
+        let name = std::path::Path::new(label)
+            .file_name()
+            .and_then(|n| n.to_str())
+            .unwrap_or(label);
+        crate::claim::matches_pattern(&self.pattern, label)
+            || crate::claim::matches_pattern(&self.pattern, name)
+    }
+}
+
+fn parse_section(
+    label: &str,
+    number: usize,
+    item: serde_json::Value,
+) -> Result<MapSection, String> {
+    let where_ = format!("{label}: section {number} of `files`");
+    let serde_json::Value::Object(fields) = item else {
+        return Err(format!("{where_} must be an object with `match` and `map`"));
+    };
+    let mut section = MapSection::default();
+    for (key, value) in fields {
+        match (key.as_str(), value) {
+            ("match", serde_json::Value::String(pattern)) => section.pattern = pattern,
+            ("percent", serde_json::Value::Bool(percent)) => section.percent = Some(percent),
+            ("map", serde_json::Value::Object(map)) => {
+                for (canonical, theirs) in map {
+                    match theirs {
+                        serde_json::Value::String(theirs) => section
+                            .map
+                            .push((canonical.trim().to_ascii_lowercase(), theirs)),
+                        other => {
+                            return Err(format!(
+                                "{where_}: the value for `{canonical}` must be a column name (text), not {other}"
+                            ))
+                        }
+                    }
+                }
+            }
+            (key, value) => {
+                return Err(format!(
+                    "{where_}: `{key}` = {value} is not understood (a section has `match` (text), `map` (an object) and `percent` (true or false))"
+                ))
+            }
+        }
+    }
+    if section.pattern.is_empty() {
+        return Err(format!("{where_} has no `match` pattern"));
+    }
+    check_column_map(&section.map).map_err(|error| format!("{where_}: {error}"))?;
+    Ok(section)
 }
 
 /// A JSON object's entries in the order written; a key written twice is an error.
@@ -170,31 +265,143 @@ pub fn parse_object_unique(text: &str) -> Result<Vec<(String, serde_json::Value)
 }
 
 /// Binds canonical fields to the file's columns, case-insensitively, after renames.
-/// A renamed canonical field looks only for its mapped name.
 pub fn bind_columns(df: &DataFrame, column_map: &[(String, String)]) -> ColumnBinding {
     let names: Vec<&str> = df.get_column_names().iter().map(|n| n.as_str()).collect();
     bind_names(&names, column_map)
 }
 
 /// [`bind_columns`] for a header given as names.
+///
+/// A rename applies to a file only where its column exists: a file without the
+/// mapped column reads the canonical one if it has it (a mixed folder: a notebook
+/// export with its own names beside logs with the canonical ones), and says so in
+/// `notes`. Two columns that would hold one field (`holdout_n` and `HOLDOUT_N`, or a
+/// mapped column and the canonical one both present) are an ambiguity, never settled
+/// silently.
 pub fn bind_names(header: &[&str], column_map: &[(String, String)]) -> ColumnBinding {
     let names: Vec<String> = header
         .iter()
         .map(|name| name.trim().to_ascii_lowercase())
         .collect();
+    let matching = |wanted: &str| -> Vec<usize> {
+        names
+            .iter()
+            .enumerate()
+            .filter(|(_, name)| *name == wanted)
+            .map(|(index, _)| index)
+            .collect()
+    };
+    let quoted = |indices: &[usize]| -> String {
+        indices
+            .iter()
+            .map(|&i| format!("`{}`", header[i].trim()))
+            .collect::<Vec<_>>()
+            .join(" and ")
+    };
     let mut binding = ColumnBinding::default();
     for &canonical in CANONICAL_COLUMNS.iter() {
-        let wanted = column_map
+        let mapped = column_map
             .iter()
-            .rev()
             .find(|(c, _)| c == canonical)
             .map(|(_, theirs)| theirs.trim().to_ascii_lowercase())
-            .unwrap_or_else(|| canonical.to_string());
-        if let Some(index) = names.iter().position(|name| *name == wanted) {
+            .filter(|theirs| theirs != canonical);
+        let own = matching(canonical);
+        let chosen = match mapped {
+            Some(theirs) => {
+                let renamed = matching(&theirs);
+                match (renamed.len(), own.len()) {
+                    (0, 0) => None,
+                    (0, 1) => {
+                        binding.notes.push(format!(
+                            "{canonical} read from its own column `{}` (the mapped column `{theirs}` is not in this file)",
+                            header[own[0]].trim()
+                        ));
+                        Some(own[0])
+                    }
+                    (1, 0) => Some(renamed[0]),
+                    (_, 0) => {
+                        binding.ambiguities.push(format!(
+                            "the columns {} both match `{theirs}`, mapped to {canonical}: rename one",
+                            quoted(&renamed)
+                        ));
+                        None
+                    }
+                    _ => {
+                        let mut both = renamed.clone();
+                        both.extend(&own);
+                        binding.ambiguities.push(format!(
+                            "{canonical} could be read from {} (`{theirs}` is mapped to it, and the file has {canonical} itself): drop or rename one, or map another name",
+                            quoted(&both)
+                        ));
+                        None
+                    }
+                }
+            }
+            None => match own.len() {
+                0 => None,
+                1 => Some(own[0]),
+                _ => {
+                    binding.ambiguities.push(format!(
+                        "the columns {} {} match {canonical} (names are matched ignoring case): rename all but one",
+                        quoted(&own),
+                        if own.len() == 2 { "both" } else { "all" }
+                    ));
+                    None
+                }
+            },
+        };
+        if let Some(index) = chosen {
             binding.index.insert(canonical, index);
         }
     }
     binding
+}
+
+/// Why a mapped name is not a column of a file, for the missing-column message: it
+/// names a nested object (its fields are the columns), or it is absent, with the
+/// file's columns and the closest of them.
+pub fn missing_mapped_hint(theirs: &str, header: &[&str]) -> String {
+    let wanted = theirs.trim().to_ascii_lowercase();
+    let prefix = format!("{wanted}.");
+    let inside: Vec<&str> = header
+        .iter()
+        .filter(|name| name.trim().to_ascii_lowercase().starts_with(&prefix))
+        .copied()
+        .collect();
+    if !inside.is_empty() {
+        let shown: Vec<&str> = inside.iter().take(6).copied().collect();
+        return format!(
+            "`{theirs}` is an object in this file, with the fields {}{}: map one of them",
+            shown.join(", "),
+            if inside.len() > shown.len() {
+                ", …"
+            } else {
+                ""
+            }
+        );
+    }
+    let closest = header
+        .iter()
+        .map(|name| {
+            (
+                crate::suggest::edit_distance(&wanted, &name.trim().to_ascii_lowercase()),
+                *name,
+            )
+        })
+        .filter(|&(distance, _)| distance <= 2)
+        .min_by_key(|&(distance, _)| distance)
+        .map(|(_, name)| format!("; did you mean `{name}`?"))
+        .unwrap_or_default();
+    let shown: Vec<&str> = header.iter().take(30).copied().collect();
+    format!(
+        "this file has no column `{theirs}`{closest} (its columns: {}{})",
+        shown.join(", "),
+        if header.len() > shown.len() {
+            ", …"
+        } else {
+            ""
+        }
+    )
 }
 
 /// How gapcert reads a canonical column's cells.
@@ -250,6 +457,7 @@ pub fn extract_f64(
     label: &str,
     df: &DataFrame,
     index: usize,
+    decimal_comma: bool,
     problems: &mut Vec<Problem>,
 ) -> Vec<Option<f64>> {
     let column = &df.columns()[index];
@@ -262,18 +470,25 @@ pub fn extract_f64(
                 .enumerate()
                 .map(|(row, cell)| match cell.map(str::trim) {
                     None | Some("") => None,
-                    Some(value) => match parse_float(value) {
-                        Some(number) => Some(number),
-                        None => {
-                            problems.push(Problem::cell(
-                                label,
-                                row + 1,
-                                &name,
-                                not_a_number(&name, value),
-                            ));
-                            None
+                    Some(value) => {
+                        let parsed = if decimal_comma {
+                            parse_float(&value.replacen(',', ".", 1))
+                        } else {
+                            parse_float(value)
+                        };
+                        match parsed {
+                            Some(number) => Some(number),
+                            None => {
+                                problems.push(Problem::cell(
+                                    label,
+                                    row + 1,
+                                    &name,
+                                    not_a_number(&name, value),
+                                ));
+                                None
+                            }
                         }
-                    },
+                    }
                 })
                 .collect()
         }
@@ -317,11 +532,16 @@ pub fn extract_i64(
         if value.is_finite() && value.fract() == 0.0 && value.abs() < 9.2e18 {
             Some(value as i64)
         } else {
+            let why = if value.is_finite() && value.abs() >= 9.2e18 {
+                "is too large (counts go up to 9223372036854775807)"
+            } else {
+                "is not a whole number"
+            };
             problems.push(Problem::cell(
                 label,
                 row + 1,
                 &name,
-                format!("{name} = {text} is not a whole number"),
+                format!("{name} = {text} {why}"),
             ));
             None
         }
@@ -455,6 +675,11 @@ fn not_a_number(name: &str, value: &str) -> String {
         format!(
             "{name} = {value:?} is not a number: write the rate as a fraction (without %), or the percentage without % and pass --percent"
         )
+    } else if value.starts_with('[') || value.starts_with('{') {
+        format!("{name} holds a JSON list or object ({value}) where a number was expected")
+    } else if value.matches(',').count() == 1 && parse_float(&value.replacen(',', ".", 1)).is_some()
+    {
+        format!("{name} = {value:?} is not a number: it looks written with a decimal comma; pass --decimal-comma")
     } else {
         format!("{name} = {value:?} is not a number")
     }

@@ -19,6 +19,90 @@ use crate::error::Problem;
 
 const UTF8_BOM: &[u8] = &[0xEF, 0xBB, 0xBF];
 
+/// What kind of gapcert report `bytes` hold, if they hold one: gapcert's own
+/// outputs (the JSON document, a certificate, the runs or claims written flat) found
+/// in a folder of logs are left out, so that `gapcert audit exp -o exp/audit.csv`
+/// followed by another audit of `exp` (or `verify` of a certificate kept there) does
+/// not read the report as a log. Recognised by content: the JSON document's `tool`,
+/// and the columns only gapcert's flat outputs have together (Parquet's are in its
+/// footer, Arrow's in its header).
+pub fn own_report_kind(bytes: &[u8], format: LogFormat) -> Option<&'static str> {
+    let contains = |haystack: &[u8], needle: &str| {
+        haystack
+            .windows(needle.len())
+            .any(|window| window == needle.as_bytes())
+    };
+    let runs = |part: &[u8]| {
+        [
+            "error_upper_bound",
+            "certifiable_accuracy",
+            "explanation",
+            "verdict",
+        ]
+        .iter()
+        .all(|name| contains(part, name))
+    };
+    let claims = |part: &[u8]| {
+        ["runs_matched", "evidence", "mcnemar_p"]
+            .iter()
+            .all(|name| contains(part, name))
+    };
+    fn first_line(bytes: &[u8]) -> &[u8] {
+        let end = bytes
+            .iter()
+            .position(|&b| b == b'\n')
+            .unwrap_or(bytes.len());
+        &bytes[..end.min(1 << 16)]
+    }
+    let start = &bytes[..bytes.len().min(1 << 16)];
+    let end = &bytes[bytes.len().saturating_sub(1 << 16)..];
+    let (runs_part, claims_part): (&[u8], &[u8]) = match format {
+        LogFormat::Json => {
+            let head = &bytes[..bytes.len().min(512)];
+            if contains(head, "\"tool\"") && contains(head, "\"gapcert\"") {
+                return Some(if contains(bytes, "\"certificate\"") {
+                    "a gapcert certificate"
+                } else {
+                    "a gapcert report"
+                });
+            }
+            (first_line(bytes), first_line(bytes))
+        }
+        LogFormat::Csv | LogFormat::Tsv | LogFormat::JsonLines => {
+            (first_line(strip_bom(bytes)), first_line(strip_bom(bytes)))
+        }
+        LogFormat::Parquet => (end, end),
+        LogFormat::Arrow => (start, start),
+    };
+    if runs(runs_part) {
+        Some("a gapcert report of runs")
+    } else if claims(claims_part) {
+        Some("a gapcert report of claims")
+    } else {
+        None
+    }
+}
+
+/// How delimited text is split (`--separator`, `--decimal-comma`).
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
+pub struct Delimited {
+    /// The field separator; None: `,` for .csv, a tab for .tsv.
+    pub separator: Option<u8>,
+    /// Decimal numbers are written with a comma (`0,93`), as spreadsheet exports in
+    /// many locales write them.
+    pub decimal_comma: bool,
+}
+
+impl Delimited {
+    /// The reading options of `settings`.
+    pub fn of(settings: &super::settings::IngestSettings) -> Delimited {
+        Delimited {
+            separator: settings.separator,
+            decimal_comma: settings.decimal_comma,
+        }
+    }
+}
+
 /// Reads one file's bytes into a DataFrame; `label` names the file in problems.
 /// Cell-level JSON problems are returned alongside a table in which those cells are null.
 pub fn read_table(
@@ -26,17 +110,28 @@ pub fn read_table(
     bytes: &[u8],
     format: LogFormat,
     column_map: &[(String, String)],
+    delimited: Delimited,
 ) -> Result<(DataFrame, Vec<Problem>), Vec<Problem>> {
     if bytes.is_empty() {
         return Err(vec![Problem::file(label, "the file is empty")]);
     }
     super::preflight::check(label, bytes, format)?;
     match format {
-        LogFormat::Csv => {
-            read_delimited(label, bytes, b',', Some(column_map)).map(|df| (df, Vec::new()))
-        }
-        LogFormat::Tsv => {
-            read_delimited(label, bytes, b'\t', Some(column_map)).map(|df| (df, Vec::new()))
+        LogFormat::Csv | LogFormat::Tsv => {
+            let default = if format == LogFormat::Csv {
+                b','
+            } else {
+                b'\t'
+            };
+            let separator = delimited.separator.unwrap_or(default);
+            read_delimited(
+                label,
+                bytes,
+                separator,
+                delimited.decimal_comma,
+                Some(column_map),
+            )
+            .map(|df| (df, Vec::new()))
         }
         LogFormat::Parquet => guarded(label, "Parquet", || {
             ParquetReader::new(Cursor::new(bytes)).finish()
@@ -227,6 +322,7 @@ fn read_delimited(
     label: &str,
     bytes: &[u8],
     separator: u8,
+    decimal_comma: bool,
     column_map: Option<&[(String, String)]>,
 ) -> Result<DataFrame, Vec<Problem>> {
     let bytes = strip_bom(bytes);
@@ -235,6 +331,7 @@ fn read_delimited(
     }
     let parse_options = CsvParseOptions::default()
         .with_separator(separator)
+        .with_decimal_comma(decimal_comma)
         .with_truncate_ragged_lines(false);
     let options = CsvReadOptions::default()
         .with_has_header(true)
@@ -243,7 +340,89 @@ fn read_delimited(
     if let Some(df) = column_map.and_then(|map| read_delimited_typed(label, bytes, &options, map)) {
         return Ok(strip_carriage_returns(df));
     }
-    read_with(label, options, bytes).map(strip_carriage_returns)
+    read_with(label, options, bytes)
+        .map(strip_carriage_returns)
+        .map_err(|problems| {
+            let ragged = ragged_rows(label, bytes, separator);
+            if ragged.is_empty() {
+                problems
+            } else {
+                ragged
+            }
+        })
+}
+
+/// When polars cannot split a delimited file, the rows whose number of fields is not
+/// the header's, each named (polars' own message names none), with advice when the
+/// header reads better with another separator (a spreadsheet export in a locale that
+/// separates fields with `;` and writes decimal commas).
+fn ragged_rows(label: &str, bytes: &[u8], separator: u8) -> Vec<Problem> {
+    let Ok(text) = std::str::from_utf8(bytes) else {
+        return Vec::new();
+    };
+    let split = |line: &str, separator: u8| -> usize {
+        let mut fields = 1;
+        let mut quoted = false;
+        for byte in line.bytes() {
+            match byte {
+                b'"' => quoted = !quoted,
+                b if b == separator && !quoted => fields += 1,
+                _ => {}
+            }
+        }
+        fields
+    };
+    let mut lines = text.lines();
+    let Some(header) = lines.next() else {
+        return Vec::new();
+    };
+    let expected = split(header, separator);
+    let advice = [b';', b'\t', b'|', b',']
+        .into_iter()
+        .filter(|&other| other != separator && split(header, other) > expected)
+        .max_by_key(|&other| split(header, other))
+        .map(|other| {
+            let name = match other {
+                b'\t' => "a tab".to_string(),
+                other => format!("`{}`", other as char),
+            };
+            let comma = if other == b';' && text.contains(',') {
+                " --decimal-comma (decimal numbers written like 0,93)"
+            } else {
+                ""
+            };
+            format!(
+                " (the header splits into {} fields at {name}: pass --separator '{}'{comma})",
+                split(header, other),
+                if other == b'\t' {
+                    "\\t".to_string()
+                } else {
+                    (other as char).to_string()
+                }
+            )
+        })
+        .unwrap_or_default();
+    let mut problems = Vec::new();
+    let mut row = 0;
+    for line in lines {
+        if line.trim().is_empty() {
+            continue;
+        }
+        row += 1;
+        let fields = split(line, separator);
+        if fields != expected {
+            if problems.len() == 20 {
+                problems.push(Problem::file(label, "… and more rows of the wrong width"));
+                break;
+            }
+            problems.push(Problem::row(
+                label,
+                row,
+                format!("the row has {fields} fields and the header {expected}{advice}"),
+            ));
+        }
+    }
+    problems
 }
 
 /// The fast path of [`read_delimited`]; None when it does not apply or any cell fails.
@@ -275,7 +454,9 @@ fn read_delimited_typed(
 /// check.
 pub fn typed_and_text_readings(bytes: &[u8], separator: u8) -> [String; 2] {
     let settings = super::settings::IngestSettings::default();
-    let read = |map: Option<&[(String, String)]>| match read_delimited("t", bytes, separator, map) {
+    let read = |map: Option<&[(String, String)]>| match read_delimited(
+        "t", bytes, separator, false, map,
+    ) {
         Ok(df) => {
             let runs = super::rows::table_runs("t", &df, 0, &settings, Vec::new());
             format!(
@@ -345,6 +526,266 @@ fn strip_carriage_returns(df: DataFrame) -> DataFrame {
     DataFrame::new(df.height(), columns).unwrap_or(df)
 }
 
+/// One JSON record flattened: nested objects become dotted keys
+/// (`{"metrics": {"val": {"acc": 0.93}}}` gives `metrics.val.acc`), in the order
+/// written; keys written twice are collected, not silently resolved.
+#[derive(Default)]
+struct FlatRecord {
+    entries: Vec<(String, Value)>,
+    repeated: Vec<String>,
+}
+
+impl FlatRecord {
+    fn get(&self, key: &str) -> Option<&Value> {
+        self.entries.iter().find(|(k, _)| k == key).map(|(_, v)| v)
+    }
+
+    fn push(&mut self, key: String, value: Value) {
+        if self.entries.iter().any(|(k, _)| *k == key) {
+            if !self.repeated.contains(&key) {
+                self.repeated.push(key);
+            }
+        } else {
+            self.entries.push((key, value));
+        }
+    }
+}
+
+/// A JSON value read into a [`FlatRecord`] under a key prefix.
+struct Flatten<'r> {
+    prefix: String,
+    record: &'r mut FlatRecord,
+}
+
+impl<'de> serde::de::DeserializeSeed<'de> for Flatten<'_> {
+    type Value = ();
+    fn deserialize<D: serde::Deserializer<'de>>(self, deserializer: D) -> Result<(), D::Error> {
+        deserializer.deserialize_any(self)
+    }
+}
+
+impl<'de> serde::de::Visitor<'de> for Flatten<'_> {
+    type Value = ();
+
+    fn expecting(&self, f: &mut std::fmt::Formatter) -> std::fmt::Result {
+        f.write_str("a JSON value")
+    }
+
+    fn visit_map<A: serde::de::MapAccess<'de>>(self, mut map: A) -> Result<(), A::Error> {
+        let mut empty = true;
+        while let Some(key) = map.next_key::<String>()? {
+            empty = false;
+            let path = if self.prefix.is_empty() {
+                key
+            } else {
+                format!("{}.{key}", self.prefix)
+            };
+            map.next_value_seed(Flatten {
+                prefix: path,
+                record: &mut *self.record,
+            })?;
+        }
+        if empty && !self.prefix.is_empty() {
+            self.record
+                .push(self.prefix, Value::Object(Default::default()));
+        }
+        Ok(())
+    }
+
+    fn visit_seq<A: serde::de::SeqAccess<'de>>(self, mut seq: A) -> Result<(), A::Error> {
+        let mut items = Vec::new();
+        while let Some(item) = seq.next_element::<Value>()? {
+            items.push(item);
+        }
+        self.record.push(self.prefix, Value::Array(items));
+        Ok(())
+    }
+
+    fn visit_bool<E>(self, v: bool) -> Result<(), E> {
+        self.record.push(self.prefix, Value::Bool(v));
+        Ok(())
+    }
+
+    fn visit_i64<E>(self, v: i64) -> Result<(), E> {
+        self.record.push(self.prefix, Value::from(v));
+        Ok(())
+    }
+
+    fn visit_u64<E>(self, v: u64) -> Result<(), E> {
+        self.record.push(self.prefix, Value::from(v));
+        Ok(())
+    }
+
+    fn visit_f64<E>(self, v: f64) -> Result<(), E> {
+        self.record.push(self.prefix, Value::from(v));
+        Ok(())
+    }
+
+    fn visit_str<E>(self, v: &str) -> Result<(), E> {
+        self.record.push(self.prefix, Value::String(v.to_string()));
+        Ok(())
+    }
+
+    fn visit_string<E>(self, v: String) -> Result<(), E> {
+        self.record.push(self.prefix, Value::String(v));
+        Ok(())
+    }
+
+    fn visit_unit<E>(self) -> Result<(), E> {
+        self.record.push(self.prefix, Value::Null);
+        Ok(())
+    }
+
+    fn visit_none<E>(self) -> Result<(), E> {
+        self.record.push(self.prefix, Value::Null);
+        Ok(())
+    }
+}
+
+/// A parsed JSON top level: one object (flattened), an array of items (objects
+/// flattened, anything else kept to be reported), or another value.
+enum JsonTop {
+    Object(FlatRecord),
+    Array(Vec<Option<FlatRecord>>),
+    Other(&'static str),
+}
+
+struct TopVisitor;
+
+impl<'de> serde::de::Visitor<'de> for TopVisitor {
+    type Value = JsonTop;
+
+    fn expecting(&self, f: &mut std::fmt::Formatter) -> std::fmt::Result {
+        f.write_str("a JSON object or an array of objects")
+    }
+
+    fn visit_map<A: serde::de::MapAccess<'de>>(self, map: A) -> Result<JsonTop, A::Error> {
+        let mut record = FlatRecord::default();
+        serde::de::Visitor::visit_map(
+            Flatten {
+                prefix: String::new(),
+                record: &mut record,
+            },
+            map,
+        )?;
+        Ok(JsonTop::Object(record))
+    }
+
+    fn visit_seq<A: serde::de::SeqAccess<'de>>(self, mut seq: A) -> Result<JsonTop, A::Error> {
+        let mut items = Vec::new();
+        while let Some(item) = seq.next_element_seed(ItemSeed)? {
+            items.push(item);
+        }
+        Ok(JsonTop::Array(items))
+    }
+
+    fn visit_bool<E>(self, _: bool) -> Result<JsonTop, E> {
+        Ok(JsonTop::Other("a boolean"))
+    }
+    fn visit_i64<E>(self, _: i64) -> Result<JsonTop, E> {
+        Ok(JsonTop::Other("a number"))
+    }
+    fn visit_u64<E>(self, _: u64) -> Result<JsonTop, E> {
+        Ok(JsonTop::Other("a number"))
+    }
+    fn visit_f64<E>(self, _: f64) -> Result<JsonTop, E> {
+        Ok(JsonTop::Other("a number"))
+    }
+    fn visit_str<E>(self, _: &str) -> Result<JsonTop, E> {
+        Ok(JsonTop::Other("a string"))
+    }
+    fn visit_unit<E>(self) -> Result<JsonTop, E> {
+        Ok(JsonTop::Other("null"))
+    }
+}
+
+/// An array item read straight into a flat record when it is an object (repeated
+/// keys are caught at every level), otherwise skipped as a non-object.
+struct ItemSeed;
+
+impl<'de> serde::de::DeserializeSeed<'de> for ItemSeed {
+    type Value = Option<FlatRecord>;
+    fn deserialize<D: serde::Deserializer<'de>>(
+        self,
+        deserializer: D,
+    ) -> Result<Self::Value, D::Error> {
+        deserializer.deserialize_any(ItemVisitor)
+    }
+}
+
+struct ItemVisitor;
+
+impl<'de> serde::de::Visitor<'de> for ItemVisitor {
+    type Value = Option<FlatRecord>;
+
+    fn expecting(&self, f: &mut std::fmt::Formatter) -> std::fmt::Result {
+        f.write_str("a JSON object")
+    }
+
+    fn visit_map<A: serde::de::MapAccess<'de>>(self, map: A) -> Result<Self::Value, A::Error> {
+        let mut record = FlatRecord::default();
+        serde::de::Visitor::visit_map(
+            Flatten {
+                prefix: String::new(),
+                record: &mut record,
+            },
+            map,
+        )?;
+        Ok(Some(record))
+    }
+
+    fn visit_seq<A: serde::de::SeqAccess<'de>>(self, mut seq: A) -> Result<Self::Value, A::Error> {
+        while seq.next_element::<serde::de::IgnoredAny>()?.is_some() {}
+        Ok(None)
+    }
+
+    fn visit_bool<E>(self, _: bool) -> Result<Self::Value, E> {
+        Ok(None)
+    }
+    fn visit_i64<E>(self, _: i64) -> Result<Self::Value, E> {
+        Ok(None)
+    }
+    fn visit_u64<E>(self, _: u64) -> Result<Self::Value, E> {
+        Ok(None)
+    }
+    fn visit_f64<E>(self, _: f64) -> Result<Self::Value, E> {
+        Ok(None)
+    }
+    fn visit_str<E>(self, _: &str) -> Result<Self::Value, E> {
+        Ok(None)
+    }
+    fn visit_unit<E>(self) -> Result<Self::Value, E> {
+        Ok(None)
+    }
+}
+
+/// Parses one JSON text into its top level.
+fn parse_top(text: &[u8]) -> Result<JsonTop, serde_json::Error> {
+    let mut deserializer = serde_json::Deserializer::from_slice(text);
+    let top = serde::Deserializer::deserialize_any(&mut deserializer, TopVisitor)?;
+    deserializer.end()?;
+    Ok(top)
+}
+
+/// A parser error in words: its message without serde_json's position (gapcert names
+/// the line itself), and advice for the usual cause: NaN or Infinity, which Python's
+/// json module writes but JSON does not allow.
+fn json_error_words(error: &serde_json::Error, text: &str) -> String {
+    let message = error.to_string();
+    let message = match message.rfind(" at line ") {
+        Some(at) => message[..at].to_string(),
+        None => message,
+    };
+    let mut words = format!("invalid JSON at column {}: {message}", error.column());
+    if ["NaN", "Infinity", "-Infinity"]
+        .iter()
+        .any(|token| text.contains(token))
+    {
+        words.push_str(" (NaN and Infinity are not JSON: write null, or the number as text)");
+    }
+    words
+}
+
 fn read_json_lines(label: &str, bytes: &[u8]) -> Result<(DataFrame, Vec<Problem>), Vec<Problem>> {
     let text = std::str::from_utf8(bytes)
         .map_err(|_| vec![Problem::file(label, "the file is not valid UTF-8")])?;
@@ -356,8 +797,17 @@ fn read_json_lines(label: &str, bytes: &[u8]) -> Result<(DataFrame, Vec<Problem>
             continue;
         }
         record_number += 1;
-        match serde_json::from_str::<Value>(line) {
-            Ok(Value::Object(map)) => records.push(Some(map)),
+        match parse_top(line.as_bytes()) {
+            Ok(JsonTop::Object(record)) => {
+                for key in &record.repeated {
+                    problems.push(Problem::row(
+                        label,
+                        record_number,
+                        format!("the key `{key}` is written twice in this record; keep one"),
+                    ));
+                }
+                records.push(Some(record));
+            }
             Ok(_) => {
                 problems.push(Problem::row(
                     label,
@@ -370,7 +820,7 @@ fn read_json_lines(label: &str, bytes: &[u8]) -> Result<(DataFrame, Vec<Problem>
                 problems.push(Problem::row(
                     label,
                     record_number,
-                    format!("invalid JSON ({})", json_error_kind(&error)),
+                    json_error_words(&error, line),
                 ));
                 records.push(None);
             }
@@ -379,7 +829,7 @@ fn read_json_lines(label: &str, bytes: &[u8]) -> Result<(DataFrame, Vec<Problem>
     if records.is_empty() {
         return Err(vec![Problem::file(label, "the file holds no JSON records")]);
     }
-    let (df, mut cell_problems) = records_to_frame(label, &records);
+    let (df, mut cell_problems) = records_to_frame(&records);
     problems.append(&mut cell_problems);
     Ok((df, problems))
 }
@@ -388,141 +838,132 @@ fn read_json_document(
     label: &str,
     bytes: &[u8],
 ) -> Result<(DataFrame, Vec<Problem>), Vec<Problem>> {
-    let document: Value = serde_json::from_slice(bytes).map_err(|error| {
+    let top = parse_top(bytes).map_err(|error| {
+        // JSON lines saved as .json: the first object parses, then "trailing
+        // characters" on the next line.
+        let lines_hint = if error.line() > 1
+            && error.to_string().starts_with("trailing characters")
+            && std::str::from_utf8(bytes)
+                .ok()
+                .and_then(|text| text.lines().next())
+                .is_some_and(|first| parse_top(first.as_bytes()).is_ok())
+        {
+            "; the file holds one JSON object per line (JSON lines): name it .jsonl or .ndjson"
+        } else {
+            ""
+        };
+        let text = std::str::from_utf8(bytes).unwrap_or("");
+        let line_text = text
+            .lines()
+            .nth(error.line().saturating_sub(1))
+            .unwrap_or("");
         vec![Problem::file(
             label,
             format!(
-                "invalid JSON at line {}, column {} ({})",
+                "line {}: {}{lines_hint}",
                 error.line(),
-                error.column(),
-                json_error_kind(&error)
+                json_error_words(&error, line_text)
             ),
         )]
     })?;
     let mut problems = Vec::new();
-    let records: Vec<Option<serde_json::Map<String, Value>>> = match document {
-        Value::Object(map) => vec![Some(map)],
-        Value::Array(items) => items
+    let records: Vec<Option<FlatRecord>> = match top {
+        JsonTop::Object(record) => vec![Some(record)],
+        JsonTop::Array(items) => items
             .into_iter()
             .enumerate()
-            .map(|(index, item)| match item {
-                Value::Object(map) => Some(map),
-                _ => {
+            .map(|(index, item)| {
+                if item.is_none() {
                     problems.push(Problem::row(
                         label,
                         index + 1,
                         "the array element is not an object (one run per element expected)",
                     ));
-                    None
                 }
+                item
             })
             .collect(),
-        _ => {
+        JsonTop::Other(kind) => {
             return Err(vec![Problem::file(
                 label,
-                "the JSON document is neither an object (one run) nor an array of runs",
+                format!(
+                    "the JSON document is {kind}, neither an object (one run) nor an array of runs"
+                ),
             )])
         }
     };
+    for (index, record) in records.iter().enumerate() {
+        for key in record.iter().flat_map(|r| &r.repeated) {
+            problems.push(Problem::row(
+                label,
+                index + 1,
+                format!("the key `{key}` is written twice in this record; keep one"),
+            ));
+        }
+    }
     if records.is_empty() {
         return Err(vec![Problem::file(label, "the JSON array holds no runs")]);
     }
-    let (df, mut cell_problems) = records_to_frame(label, &records);
+    let (df, mut cell_problems) = records_to_frame(&records);
     problems.append(&mut cell_problems);
     Ok((df, problems))
 }
 
-fn json_error_kind(error: &serde_json::Error) -> &'static str {
-    match error.classify() {
-        serde_json::error::Category::Eof => "unexpected end of input: truncated?",
-        serde_json::error::Category::Syntax => "syntax error",
-        serde_json::error::Category::Data => "unexpected data",
-        serde_json::error::Category::Io => "read error",
-    }
-}
-
-/// Builds a DataFrame from JSON objects. A column whose values are all numbers
-/// becomes numeric; a column with any string keeps every value as text (numbers in
-/// their JSON spelling), so the column extractor sees exactly what was written.
-/// Booleans, arrays and objects are reported and become null.
-fn records_to_frame(
-    label: &str,
-    records: &[Option<serde_json::Map<String, Value>>],
-) -> (DataFrame, Vec<Problem>) {
-    let mut names: Vec<String> = Vec::new();
+/// Builds a DataFrame from flattened JSON records. A column whose values are all
+/// numbers becomes numeric; a column with any string keeps every value as text
+/// (numbers in their JSON spelling), so the column extractor sees exactly what was
+/// written. Booleans, arrays and empty objects are kept as their JSON text: a column
+/// gapcert reads then reports them as not numbers; other columns are not gapcert's
+/// business (a sweep's `config.tags` may be anything).
+fn records_to_frame(records: &[Option<FlatRecord>]) -> (DataFrame, Vec<Problem>) {
+    let mut names: Vec<&str> = Vec::new();
     let mut seen = std::collections::HashSet::new();
-    for map in records.iter().flatten() {
-        for key in map.keys() {
-            if seen.insert(key.clone()) {
-                names.push(key.clone());
+    for record in records.iter().flatten() {
+        for (key, _) in &record.entries {
+            if seen.insert(key.as_str()) {
+                names.push(key.as_str());
             }
         }
     }
-    let mut problems = Vec::new();
     let mut columns = Vec::with_capacity(names.len());
-    for name in &names {
+    for &name in &names {
         let values: Vec<Option<&Value>> = records
             .iter()
-            .map(|record| record.as_ref().and_then(|map| map.get(name)))
+            .map(|record| record.as_ref().and_then(|r| r.get(name)))
             .collect();
-        let any_text = values.iter().any(|v| matches!(v, Some(Value::String(_))));
+        let any_text = values.iter().any(|v| {
+            matches!(
+                v,
+                Some(Value::String(_) | Value::Bool(_) | Value::Array(_) | Value::Object(_))
+            )
+        });
         let all_integers = values
             .iter()
             .all(|v| !matches!(v, Some(Value::Number(n)) if n.as_i64().is_none()));
-        let mut text_cells: Vec<Option<String>> = Vec::new();
-        let mut integer_cells: Vec<Option<i64>> = Vec::new();
-        let mut float_cells: Vec<Option<f64>> = Vec::new();
-        for (index, value) in values.iter().enumerate() {
-            let cell: Option<&Value> = match value {
-                None | Some(Value::Null) => None,
-                Some(Value::Bool(_)) | Some(Value::Array(_)) | Some(Value::Object(_)) => {
-                    problems.push(Problem::cell(
-                        label,
-                        index + 1,
-                        name,
-                        format!(
-                            "{name} holds a JSON {} where a number or text was expected",
-                            json_kind(value.unwrap())
-                        ),
-                    ));
-                    None
-                }
-                Some(other) => Some(other),
-            };
-            if any_text {
-                text_cells.push(cell.map(|v| match v {
-                    Value::String(s) => s.clone(),
-                    other => other.to_string(),
-                }));
-            } else if all_integers {
-                integer_cells.push(cell.and_then(|v| v.as_i64()));
-            } else {
-                float_cells.push(cell.and_then(|v| v.as_f64()));
-            }
-        }
         let series = if any_text {
-            Series::new(name.as_str().into(), text_cells)
+            let cells: Vec<Option<String>> = values
+                .iter()
+                .map(|value| match value {
+                    None | Some(Value::Null) => None,
+                    Some(Value::String(s)) => Some(s.clone()),
+                    Some(other) => Some(other.to_string()),
+                })
+                .collect();
+            Series::new(name.into(), cells)
         } else if all_integers {
-            Series::new(name.as_str().into(), integer_cells)
+            let cells: Vec<Option<i64>> =
+                values.iter().map(|v| v.and_then(Value::as_i64)).collect();
+            Series::new(name.into(), cells)
         } else {
-            Series::new(name.as_str().into(), float_cells)
+            let cells: Vec<Option<f64>> =
+                values.iter().map(|v| v.and_then(Value::as_f64)).collect();
+            Series::new(name.into(), cells)
         };
         columns.push(Column::from(series));
     }
     let df = DataFrame::new(records.len(), columns)
         .unwrap_or_else(|_| DataFrame::empty_with_height(records.len()));
-    (df, problems)
-}
-
-fn json_kind(value: &Value) -> &'static str {
-    match value {
-        Value::Bool(_) => "boolean",
-        Value::Array(_) => "array",
-        Value::Object(_) => "object",
-        Value::Null => "null",
-        Value::Number(_) => "number",
-        Value::String(_) => "string",
-    }
+    (df, Vec::new())
 }
 
 /// Installs a panic hook that stays silent while a guarded reader runs (its panic is
@@ -544,8 +985,14 @@ mod tests {
     /// Reads `text` as CSV both ways: the typed table, and what each reading yields.
     fn both_paths(text: &str) -> [(DataFrame, String); 2] {
         let settings = IngestSettings::default();
-        let typed = read_delimited("t", text.as_bytes(), b',', Some(&settings.column_map));
-        let plain = read_delimited("t", text.as_bytes(), b',', None);
+        let typed = read_delimited(
+            "t",
+            text.as_bytes(),
+            b',',
+            false,
+            Some(&settings.column_map),
+        );
+        let plain = read_delimited("t", text.as_bytes(), b',', false, None);
         let [typed_seen, plain_seen] = typed_and_text_readings(text.as_bytes(), b',');
         [
             (typed.expect("readable"), typed_seen),

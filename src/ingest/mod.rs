@@ -15,7 +15,6 @@ pub mod settings;
 use std::borrow::Cow;
 use std::path::PathBuf;
 
-use rayon::prelude::*;
 use serde::{Deserialize, Serialize};
 use sha2::{Digest, Sha256};
 
@@ -53,6 +52,10 @@ pub struct IngestOutcome {
     pub skipped_files: Vec<SkippedFile>,
     /// Data rows of the logs that `--lenient` skipped whole (read, not audited).
     pub rows_in_skipped_files: usize,
+    /// `file: note` lines worth saying under `-v`.
+    pub notes: Vec<String>,
+    /// Runs set aside as copies: of identical files, and identical runs read twice.
+    pub copies_set_aside: usize,
 }
 
 /// Where a log's bytes come from.
@@ -128,23 +131,23 @@ pub fn read_sources_reporting(
     let done = std::sync::atomic::AtomicUsize::new(0);
     // Each file's table is dropped as soon as its runs are read: a folder of 200,000
     // small logs must not hold 200,000 tables.
-    let per_file: Vec<(LogSummary, Vec<RunInput>, FileReport)> = sources
-        .par_iter()
-        .map(|source| {
-            if settings.cancel.is_cancelled() {
-                return (LogSummary::default(), Vec::new(), FileReport::default());
-            }
-            let log = OpenedLog::open(source, &settings.column_map);
-            let mut runs = Vec::new();
-            let report = log.validate(settings, usize::MAX, &mut |batch| {
-                runs.extend(batch);
-                true
-            });
-            let finished = done.fetch_add(1, std::sync::atomic::Ordering::Relaxed) + 1;
-            progress(finished, sources.len());
-            (log.summary(), runs, report)
-        })
-        .collect();
+    let per_file: Vec<(LogSummary, Vec<RunInput>, FileReport)> = map_files(sources, |source| {
+        if settings.cancel.is_cancelled() {
+            return (LogSummary::default(), Vec::new(), FileReport::default());
+        }
+        let settings = settings.for_file(&source_label(source));
+        let settings = settings.as_ref();
+        let log = OpenedLog::open(source, settings);
+        let mut runs = Vec::new();
+        // In batches, so that a Ctrl-C stops a long file soon.
+        let report = log.validate(settings, 1 << 16, &mut |batch| {
+            runs.extend(batch);
+            !settings.cancel.is_cancelled()
+        });
+        let finished = done.fetch_add(1, std::sync::atomic::Ordering::Relaxed) + 1;
+        progress(finished, sources.len());
+        (log.summary(), runs, report)
+    });
 
     if settings.cancel.is_cancelled() {
         return Err(Error::Interrupted);
@@ -156,12 +159,61 @@ pub fn read_sources_reporting(
             outcome.runs.extend(runs);
         }
     }
-    collected.finish(sources, outcome.runs.len())?;
+    collected.finish(sources, outcome.runs.len(), &settings.keep)?;
     outcome.inputs = collected.inputs;
     outcome.skipped_rows = collected.skipped_rows;
     outcome.skipped_files = collected.skipped_files;
     outcome.rows_in_skipped_files = collected.rows_in_skipped_files;
+    outcome.notes = collected.notes;
+    outcome.copies_set_aside = collected.copies_set_aside;
+    collected.file_copies.name_copies(&mut outcome.runs);
     Ok(outcome)
+}
+
+/// Maps `work` over the files `items` on plain threads (one per core), keeping their
+/// order. Not on rayon's pool: polars parses a CSV on a pool of its own, and a rayon
+/// worker waiting for another pool runs queued work of its own pool meanwhile (the
+/// next file), so reads nested on one worker's stack until a folder of 1,500 CSVs
+/// overflowed it. A plain thread that waits only waits.
+pub fn map_files<S: Sync, T: Send>(items: &[S], work: impl Fn(&S) -> T + Sync) -> Vec<T> {
+    let threads = std::thread::available_parallelism()
+        .map_or(1, |n| n.get())
+        .min(items.len());
+    if threads <= 1 {
+        return items.iter().map(work).collect();
+    }
+    let next = std::sync::atomic::AtomicUsize::new(0);
+    let done: Vec<Vec<(usize, T)>> = std::thread::scope(|scope| {
+        let workers: Vec<_> = (0..threads)
+            .map(|_| {
+                scope.spawn(|| {
+                    let mut mine = Vec::new();
+                    loop {
+                        let at = next.fetch_add(1, std::sync::atomic::Ordering::Relaxed);
+                        let Some(item) = items.get(at) else { break };
+                        mine.push((at, work(item)));
+                    }
+                    mine
+                })
+            })
+            .collect();
+        workers
+            .into_iter()
+            .map(|worker| {
+                worker
+                    .join()
+                    .unwrap_or_else(|panic| std::panic::resume_unwind(panic))
+            })
+            .collect()
+    });
+    let mut slots: Vec<Option<T>> = std::iter::repeat_with(|| None).take(items.len()).collect();
+    for (at, result) in done.into_iter().flatten() {
+        slots[at] = Some(result);
+    }
+    slots
+        .into_iter()
+        .map(|slot| slot.expect("every file is mapped once"))
+        .collect()
 }
 
 /// What validating one file found besides its runs.
@@ -171,6 +223,11 @@ pub struct FileReport {
     pub bad_rows: Vec<(usize, Vec<Problem>)>,
     /// Problems with the file as a whole; when any, the file yields no runs.
     pub file_problems: Vec<Problem>,
+    /// What reading it noticed that is worth saying under `-v` (a rename that did not
+    /// apply to this file).
+    pub notes: Vec<String>,
+    /// Per `--keep` name: whether the file has the column (empty when not known).
+    pub kept_found: Vec<bool>,
 }
 
 /// The inputs, skipped rows and files, and problems of several files, in file order.
@@ -182,6 +239,60 @@ pub struct Collected {
     /// Data rows of the logs skipped whole.
     pub rows_in_skipped_files: usize,
     pub problems: Vec<Problem>,
+    /// `file: note` lines for `-v`.
+    pub notes: Vec<String>,
+    /// Runs set aside as copies (files identical to an earlier one).
+    pub copies_set_aside: usize,
+    /// Files identical to an earlier one: the earlier file's runs name them.
+    pub file_copies: FileCopies,
+    /// Per `--keep` name: whether any usable log has the column.
+    pub kept_found: Vec<bool>,
+}
+
+/// Files set aside as copies of earlier files, by the label of the file they copy:
+/// the run at row r of the kept file names row r of each copy among its `copies`.
+#[derive(Clone, Debug, Default)]
+pub struct FileCopies {
+    by_original: std::collections::HashMap<String, Vec<String>>,
+}
+
+impl FileCopies {
+    /// Records that `copy` holds the same bytes as `original`.
+    pub fn add(&mut self, original: &str, copy: &str) {
+        self.by_original
+            .entry(original.to_string())
+            .or_default()
+            .push(copy.to_string());
+    }
+
+    pub fn is_empty(&self) -> bool {
+        self.by_original.is_empty()
+    }
+
+    /// The sources of the copies of row `row` of the file `original`.
+    pub fn copies_at(&self, original: &str, row: u64) -> Vec<String> {
+        self.by_original
+            .get(original)
+            .map(|copies| copies.iter().map(|copy| format!("{copy}:{row}")).collect())
+            .unwrap_or_default()
+    }
+
+    /// Adds to each run of a copied file the same row of each copy.
+    pub fn name_copies(&self, runs: &mut [RunInput]) {
+        if self.by_original.is_empty() {
+            return;
+        }
+        for run in runs {
+            // Sources are `file:row`; file names may hold colons, rows do not.
+            let Some((file, row)) = run.source.rsplit_once(':') else {
+                continue;
+            };
+            if let Some(copies) = self.by_original.get(file) {
+                run.copies
+                    .extend(copies.iter().map(|copy| format!("{copy}:{row}")));
+            }
+        }
+    }
 }
 
 impl Collected {
@@ -190,10 +301,48 @@ impl Collected {
     /// one); otherwise both are problems. Returns whether the file's runs are to be
     /// audited.
     pub fn add(&mut self, log: &LogSummary, report: FileReport, lenient: bool) -> bool {
+        if let Some(kind) = log.own_report {
+            self.skipped_files.push(SkippedFile {
+                path: log.label.clone(),
+                reason: format!("{kind}, not a log"),
+            });
+            return false;
+        }
+        // A file whose bytes equal an earlier one's (`runs (copy).csv`) is read once:
+        // its runs would otherwise count twice, and double every K.
+        if let Some(input) = &log.input {
+            if let Some(first) = self
+                .inputs
+                .iter()
+                .find(|i| i.sha256 == input.sha256 && i.size == input.size)
+            {
+                self.skipped_files.push(SkippedFile {
+                    path: log.label.clone(),
+                    reason: format!("identical to {}, whose runs are counted once", first.path),
+                });
+                self.copies_set_aside += log.rows;
+                self.file_copies.add(&first.path, &log.label);
+                return false;
+            }
+        }
         if let Some(input) = &log.input {
             self.inputs.push(input.clone());
         }
+        self.notes.extend(
+            report
+                .notes
+                .iter()
+                .map(|note| format!("{}: {note}", log.label)),
+        );
         let usable = report.file_problems.is_empty();
+        if usable {
+            if self.kept_found.len() < report.kept_found.len() {
+                self.kept_found.resize(report.kept_found.len(), false);
+            }
+            for (seen, found) in self.kept_found.iter_mut().zip(&report.kept_found) {
+                *seen |= found;
+            }
+        }
         if !usable {
             if lenient {
                 self.skipped_files.push(SkippedFile {
@@ -225,8 +374,34 @@ impl Collected {
         usable
     }
 
-    /// Fails with every problem found, or when no run at all could be used.
-    pub fn finish(&mut self, sources: &[LogSource<'_>], runs: usize) -> Result<(), Error> {
+    /// Fails with every problem found, or when no run at all could be used. A
+    /// `--keep` column that no usable log has is a problem too (most likely a typo;
+    /// a column some logs lack is empty in their runs).
+    pub fn finish(
+        &mut self,
+        sources: &[LogSource<'_>],
+        runs: usize,
+        keep: &[String],
+    ) -> Result<(), Error> {
+        if runs > 0 && self.problems.is_empty() {
+            let absent: Vec<&str> = keep
+                .iter()
+                .enumerate()
+                .filter(|(at, _)| !self.kept_found.get(*at).copied().unwrap_or(false))
+                .map(|(_, name)| name.as_str())
+                .collect();
+            if !absent.is_empty() {
+                return Err(Error::Usage(format!(
+                    "--keep {}: none of the logs read has {} (names are matched ignoring case)",
+                    absent.join(","),
+                    if absent.len() == 1 {
+                        "a column of that name"
+                    } else {
+                        "columns of those names"
+                    }
+                )));
+            }
+        }
         if !self.problems.is_empty() {
             return Err(Error::Input(std::mem::take(&mut self.problems)));
         }
@@ -252,6 +427,8 @@ pub struct LogSummary {
     pub label: String,
     pub input: Option<InputFile>,
     pub rows: usize,
+    /// gapcert's own report (left out), and what kind.
+    pub own_report: Option<&'static str>,
 }
 
 /// One log file opened for an audit: its identity and hash, and its table, which is
@@ -261,12 +438,17 @@ pub struct OpenedLog<'a> {
     /// None when the file could not be read at all.
     pub input: Option<InputFile>,
     table: Result<formats::LogTable<'a>, Vec<Problem>>,
+    /// The file is one of gapcert's own reports (what kind), not a log: it is left
+    /// out of the audit.
+    pub own_report: Option<&'static str>,
 }
 
 impl<'a> OpenedLog<'a> {
     /// Reads and hashes the file, and parses it (Parquet: only its footer).
-    /// `column_map` (the `--map` renames) tells which columns hold numbers.
-    pub fn open(source: &LogSource<'a>, column_map: &[(String, String)]) -> OpenedLog<'a> {
+    /// `settings` tell which columns hold numbers (the renames) and how delimited
+    /// text is split.
+    pub fn open(source: &LogSource<'a>, settings: &IngestSettings) -> OpenedLog<'a> {
+        let column_map = &settings.column_map;
         let label = source_label(source);
         let bytes: Cow<'a, [u8]> = match source {
             LogSource::Path(path, _) => match std::fs::read(path) {
@@ -280,6 +462,7 @@ impl<'a> OpenedLog<'a> {
                         label,
                         input: None,
                         table: Err(vec![problem]),
+                        own_report: None,
                     };
                 }
             },
@@ -288,6 +471,14 @@ impl<'a> OpenedLog<'a> {
         let format = match source {
             LogSource::Path(_, format) | LogSource::Memory(_, _, format) => *format,
         };
+        if let Some(kind) = formats::own_report_kind(&bytes, format) {
+            return OpenedLog {
+                label,
+                input: None,
+                table: Err(Vec::new()),
+                own_report: Some(kind),
+            };
+        }
         // Hash while polars parses: both walk the whole file.
         let started = std::time::Instant::now();
         let size = bytes.len() as u64;
@@ -297,8 +488,14 @@ impl<'a> OpenedLog<'a> {
             (sha256, formats::open_parquet(&label, bytes))
         } else {
             let parse = || {
-                formats::read_table(&label, &bytes, format, column_map)
-                    .map(|(df, problems)| formats::LogTable::Frame(df, problems))
+                formats::read_table(
+                    &label,
+                    &bytes,
+                    format,
+                    column_map,
+                    formats::Delimited::of(settings),
+                )
+                .map(|(df, problems)| formats::LogTable::Frame(df, problems))
             };
             // Small files (a sweep's metrics.json) are many: handing each to two
             // threads costs more than it saves.
@@ -319,6 +516,7 @@ impl<'a> OpenedLog<'a> {
             }),
             label,
             table,
+            own_report: None,
         }
     }
 
@@ -333,6 +531,7 @@ impl<'a> OpenedLog<'a> {
             label: self.label.clone(),
             input: self.input.clone(),
             rows: self.rows(),
+            own_report: self.own_report,
         }
     }
 
@@ -385,6 +584,14 @@ impl<'a> OpenedLog<'a> {
                     rows::table_runs(&self.label, &slice, offset + start, settings, problems);
                 report.bad_rows.extend(batch.bad_rows);
                 report.file_problems.extend(batch.file_problems);
+                for note in batch.notes {
+                    if !report.notes.contains(&note) {
+                        report.notes.push(note);
+                    }
+                }
+                if report.kept_found.is_empty() {
+                    report.kept_found = batch.kept_found;
+                }
                 scale.add(batch.scale);
                 if !report.file_problems.is_empty() {
                     break 'ranges;
@@ -416,7 +623,8 @@ impl<'a> OpenedLog<'a> {
     }
 }
 
-fn source_label(source: &LogSource<'_>) -> String {
+/// The name a source is reported under.
+pub fn source_label(source: &LogSource<'_>) -> String {
     match source {
         LogSource::Path(path, _) => path.display().to_string(),
         LogSource::Memory(label, _, _) => label.to_string(),

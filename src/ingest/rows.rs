@@ -27,6 +27,7 @@ const COUNT_RATE_TOLERANCE: f64 = 5e-4;
 fn extract_column<'a>(
     label: &str,
     df: &DataFrame,
+    decimal_comma: bool,
     binding: &super::columns::ColumnBinding,
     (name, kind): (&'static str, CellKind),
     text: &'a Option<Series>,
@@ -35,7 +36,7 @@ fn extract_column<'a>(
     let cells = match (binding.index.get(name), kind) {
         (None, _) => ColumnCells::Absent,
         (Some(&index), CellKind::Float) => {
-            ColumnCells::Float(extract_f64(label, df, index, &mut problems))
+            ColumnCells::Float(extract_f64(label, df, index, decimal_comma, &mut problems))
         }
         (Some(&index), CellKind::Integer) => {
             ColumnCells::Integer(extract_i64(label, df, index, &mut problems))
@@ -68,6 +69,10 @@ pub struct TableRuns {
     /// Rates, accuracies and claims seen, and whether any was above 1 (for the check
     /// that a file read with `--percent` holds percentages).
     pub scale: ScaleEvidence,
+    /// Renames that did not apply to this file (said under `-v`).
+    pub notes: Vec<String>,
+    /// Per `--keep` name: whether this file has the column.
+    pub kept_found: Vec<bool>,
 }
 
 /// What a file's rate, accuracy and claim cells say about their scale.
@@ -131,31 +136,55 @@ pub fn table_runs(
 ) -> TableRuns {
     let binding = bind_columns(df, &settings.column_map);
     let height = df.height();
-    let mut file_problems = Vec::new();
+    let mut file_problems: Vec<Problem> = binding
+        .ambiguities
+        .iter()
+        .map(|message| Problem::file(label, message.clone()))
+        .collect();
     let has = |name: &str| binding.index.contains_key(name);
+    let header: Vec<&str> = df.get_column_names().iter().map(|n| n.as_str()).collect();
     let mapped = |canonical: &str| {
         settings
             .column_map
             .iter()
-            .rev()
             .find(|(c, _)| c == canonical)
-            .map(|(_, theirs)| format!(" (mapped to `{theirs}`)"))
-            .unwrap_or_default()
+            .map(|(_, theirs)| {
+                format!(
+                    " (mapped to `{theirs}`: {})",
+                    super::columns::missing_mapped_hint(theirs, &header)
+                )
+            })
     };
-    if !has("holdout_n") {
+    let ambiguous = |name: &str| binding.ambiguities.iter().any(|a| a.contains(name));
+    if !has("holdout_n") && !ambiguous("holdout_n") {
         file_problems.push(Problem::file(
             label,
-            format!(
-                "missing required column holdout_n{}; use --map holdout_n=<your column> if it has another name{}",
-                mapped("holdout_n"),
-                other_separator_hint(df)
-            ),
+            match mapped("holdout_n") {
+                Some(why) => format!("missing required column holdout_n{why}{}", other_separator_hint(df)),
+                None => format!(
+                    "missing required column holdout_n; use --map holdout_n=<your column> if it has another name{}",
+                    other_separator_hint(df)
+                ),
+            },
         ));
     }
-    if !has("holdout_error_rate") && !has("holdout_accuracy") && !has("holdout_misclassified") {
+    let error_columns = [
+        "holdout_error_rate",
+        "holdout_accuracy",
+        "holdout_misclassified",
+    ];
+    if !error_columns.iter().any(|c| has(c)) && !error_columns.iter().any(|c| ambiguous(c)) {
+        let why: Vec<String> = error_columns
+            .iter()
+            .filter_map(|c| mapped(c).map(|why| format!("{c}{why}")))
+            .collect();
         file_problems.push(Problem::file(
             label,
-            "missing held-out error: need one of the columns holdout_error_rate, holdout_accuracy or holdout_misclassified (or --map one to your column)",
+            if why.is_empty() {
+                "missing held-out error: need one of the columns holdout_error_rate, holdout_accuracy or holdout_misclassified (or --map one to your column)".to_string()
+            } else {
+                format!("missing held-out error: {}", why.join("; "))
+            },
         ));
     }
     if !file_problems.is_empty() {
@@ -164,6 +193,8 @@ pub fn table_runs(
             bad_rows: Vec::new(),
             file_problems,
             scale: ScaleEvidence::default(),
+            notes: Vec::new(),
+            kept_found: Vec::new(),
         };
     }
 
@@ -171,6 +202,25 @@ pub fn table_runs(
     let specs: Vec<(&'static str, CellKind)> = super::columns::CANONICAL_COLUMNS
         .iter()
         .map(|&name| (name, cell_kind(name)))
+        .collect();
+    // `--keep` columns, as text (absent from this file: empty).
+    let kept_columns: Vec<Option<Series>> = settings
+        .keep
+        .iter()
+        .map(|name| {
+            header
+                .iter()
+                .position(|column| column.trim().eq_ignore_ascii_case(name))
+                .and_then(|index| text_series(df, index))
+        })
+        .collect();
+    let kept_found: Vec<bool> = kept_columns.iter().map(Option::is_some).collect();
+    let kept_cells: Vec<Vec<Option<&str>>> = kept_columns
+        .iter()
+        .map(|series| match series {
+            Some(series) => text_cells(series),
+            None => vec![None; height],
+        })
         .collect();
     // Text cells are borrowed from these Series (kept alive for the whole table).
     let text_columns: Vec<Option<Series>> = specs
@@ -186,13 +236,17 @@ pub fn table_runs(
         specs
             .iter()
             .zip(text_columns.iter())
-            .map(|(spec, text)| extract_column(label, df, &binding, *spec, text))
+            .map(|(spec, text)| {
+                extract_column(label, df, settings.decimal_comma, &binding, *spec, text)
+            })
             .collect()
     } else {
         specs
             .par_iter()
             .zip(text_columns.par_iter())
-            .map(|(spec, text)| extract_column(label, df, &binding, *spec, text))
+            .map(|(spec, text)| {
+                extract_column(label, df, settings.decimal_comma, &binding, *spec, text)
+            })
             .collect()
     };
     let mut columns: Vec<ColumnCells<'_>> = Vec::with_capacity(extracted.len());
@@ -227,6 +281,8 @@ pub fn table_runs(
             bad_rows: Vec::new(),
             file_problems,
             scale: ScaleEvidence::default(),
+            notes: Vec::new(),
+            kept_found: Vec::new(),
         };
     }
     let names: Vec<String> = super::columns::CANONICAL_COLUMNS
@@ -245,6 +301,7 @@ pub fn table_runs(
         settings,
         columns,
         names,
+        kept: kept_cells,
     };
 
     let mut scale = ScaleEvidence::default();
@@ -300,6 +357,8 @@ pub fn table_runs(
         bad_rows,
         file_problems,
         scale,
+        notes: binding.notes,
+        kept_found,
     }
 }
 
@@ -351,6 +410,8 @@ struct Extracted<'a> {
     /// The column name as written in the file, per canonical field in the order of
     /// `CANONICAL_COLUMNS` (for messages).
     names: Vec<String>,
+    /// The `--keep` columns' cells.
+    kept: Vec<Vec<Option<&'a str>>>,
 }
 
 impl Extracted<'_> {
@@ -488,6 +549,7 @@ impl Extracted<'_> {
                 count: (self.name("holdout_misclassified"), holdout_count),
             },
             h_n,
+            row_has_problem_in(&found, holdout_n_name),
             &mut found,
         );
         // A cell that did not parse is already reported; it is not "empty".
@@ -527,6 +589,7 @@ impl Extracted<'_> {
                 ),
             },
             t_n,
+            row_has_problem_in(&found, self.name("train_n")),
             &mut found,
         );
 
@@ -623,6 +686,15 @@ impl Extracted<'_> {
             claim_error_rate,
             claim_form,
             logged_at: logged,
+            copies: Vec::new(),
+            id_repeated: false,
+            kept: self
+                .settings
+                .keep
+                .iter()
+                .zip(&self.kept)
+                .map(|(name, cells)| (name.clone(), cells[i].map(str::to_string)))
+                .collect(),
         })
     }
 }
@@ -650,6 +722,7 @@ fn error_of_row(
     row: usize,
     columns: ErrorColumns,
     n: Option<u64>,
+    n_reported: bool,
     found: &mut Vec<Problem>,
 ) -> Option<ObservedError> {
     let (rate_name, rate) = columns.rate;
@@ -686,6 +759,8 @@ fn error_of_row(
                 None
             }
             Some(_) => Some(count as u64),
+            // An example count that is there but unreadable is reported already.
+            None if n_reported => None,
             None => {
                 found.push(Problem::cell(
                     label,

@@ -51,6 +51,16 @@ pub struct DocumentSettings {
     /// Claims files (`--claims`), as given.
     #[serde(default)]
     pub claims: Vec<String>,
+    /// The map file's sections for some files (renames and scale).
+    #[serde(default)]
+    pub map_sections: Vec<crate::ingest::columns::MapSection>,
+    /// `--separator` (as a character), `--decimal-comma`, `--keep`.
+    #[serde(default)]
+    pub separator: Option<char>,
+    #[serde(default)]
+    pub decimal_comma: bool,
+    #[serde(default)]
+    pub keep: Vec<String>,
 }
 
 impl DocumentSettings {
@@ -73,6 +83,10 @@ impl DocumentSettings {
                 .iter()
                 .map(|p| p.display().to_string())
                 .collect(),
+            map_sections: ingest.sections.clone(),
+            separator: ingest.separator.map(char::from),
+            decimal_comma: ingest.decimal_comma,
+            keep: ingest.keep.clone(),
         }
     }
 
@@ -97,6 +111,10 @@ impl DocumentSettings {
             default_claim_accuracy: self.claim_accuracy,
             claims_files: self.claims.iter().map(std::path::PathBuf::from).collect(),
             cancel: crate::error::Cancel::default(),
+            sections: self.map_sections.clone(),
+            separator: self.separator.and_then(|c| u8::try_from(c).ok()),
+            decimal_comma: self.decimal_comma,
+            keep: self.keep.clone(),
         }
     }
 }
@@ -122,6 +140,9 @@ pub struct AuditDocument {
     pub skipped_rows: Vec<SkippedRow>,
     pub skipped_files: Vec<SkippedFile>,
     pub cautions: Vec<String>,
+    /// `file: note` lines of reading the logs, said under `-v` (not written out).
+    #[serde(skip)]
+    pub notes: Vec<String>,
 }
 
 /// The current time, RFC 3339 UTC, whole seconds.

@@ -42,7 +42,30 @@ pub const FLAT_COLUMNS: &[&str] = &[
     "train_needed",
     "findings",
     "logged_at",
+    "copies",
 ];
+
+/// The `--keep` names the runs carry (every run carries the same, in the order
+/// asked): the flat formats' columns after [`FLAT_COLUMNS`].
+pub fn kept_names(runs: &[RunResult]) -> Vec<&str> {
+    runs.first()
+        .map(|run| run.kept.iter().map(|(name, _)| name.as_str()).collect())
+        .unwrap_or_default()
+}
+
+/// The `--keep` cells as a JSON object's members (flattened into a flat record).
+struct KeptCells<'a>(&'a [(String, Option<String>)]);
+
+impl Serialize for KeptCells<'_> {
+    fn serialize<S: serde::Serializer>(&self, serializer: S) -> Result<S::Ok, S::Error> {
+        use serde::ser::SerializeMap;
+        let mut map = serializer.serialize_map(Some(self.0.len()))?;
+        for (name, value) in self.0 {
+            map.serialize_entry(name, value)?;
+        }
+        map.end()
+    }
+}
 
 #[derive(Serialize)]
 struct FlatRun<'a> {
@@ -78,6 +101,10 @@ struct FlatRun<'a> {
     /// Codes only: the sentences are in the JSON document, table, Markdown and HTML.
     findings: Vec<&'static str>,
     logged_at: Option<&'a str>,
+    /// Sources of the identical runs set aside.
+    copies: &'a [String],
+    #[serde(flatten)]
+    kept: KeptCells<'a>,
 }
 
 impl<'a> FlatRun<'a> {
@@ -114,6 +141,8 @@ impl<'a> FlatRun<'a> {
             train_needed: r.train_needed,
             findings: r.findings.iter().map(|f| f.code.as_str()).collect(),
             logged_at: r.logged_at.as_deref(),
+            copies: &r.copies,
+            kept: KeptCells(&r.kept),
         }
     }
 }
@@ -222,6 +251,20 @@ fn push_json_line(line: &mut Vec<u8>, r: &RunResult) {
     }
     line.extend_from_slice(b"],\"logged_at\":");
     push_opt_text(line, r.logged_at.as_deref());
+    line.extend_from_slice(b",\"copies\":[");
+    for (index, copy) in r.copies.iter().enumerate() {
+        if index > 0 {
+            line.push(b',');
+        }
+        push_text(line, copy);
+    }
+    line.push(b']');
+    for (name, value) in &r.kept {
+        line.push(b',');
+        push_text(line, name);
+        line.push(b':');
+        push_opt_text(line, value.as_deref());
+    }
     line.extend_from_slice(b"}\n");
 }
 
@@ -322,13 +365,18 @@ pub fn write_ndjson_serde(runs: &[RunResult], out: &mut dyn Write) -> io::Result
 /// (leading `=`, `+`, `-`, `@`, tab or carriage return) are prefixed with `'`;
 /// numbers are written as numbers, never altered.
 pub fn write_csv(runs: &[RunResult], out: &mut dyn Write) -> io::Result<()> {
-    write_csv_header(out)?;
+    write_csv_header(&kept_names(runs), out)?;
     write_csv_rows(runs, out)
 }
 
-/// The CSV header line.
-pub fn write_csv_header(out: &mut dyn Write) -> io::Result<()> {
-    writeln!(out, "{}", FLAT_COLUMNS.join(","))
+/// The CSV header line: the flat columns, then the `--keep` columns.
+pub fn write_csv_header(kept: &[&str], out: &mut dyn Write) -> io::Result<()> {
+    let mut line = FLAT_COLUMNS.join(",");
+    for name in kept {
+        line.push(',');
+        line.push_str(&text_cell(name));
+    }
+    writeln!(out, "{line}")
 }
 
 /// The CSV lines of `runs` (no header), formatted in parallel: buffers to write in
@@ -349,7 +397,7 @@ pub fn write_csv_rows(runs: &[RunResult], out: &mut dyn Write) -> io::Result<()>
     for r in runs {
         line.clear();
         let findings: Vec<&str> = r.findings.iter().map(|f| f.code.as_str()).collect();
-        let fields: [String; 31] = [
+        let fields: [String; 32] = [
             text_cell(&r.run),
             text_cell(&r.source),
             opt_text(r.family.as_deref()),
@@ -381,12 +429,17 @@ pub fn write_csv_rows(runs: &[RunResult], out: &mut dyn Write) -> io::Result<()>
             opt_num(r.train_needed),
             text_cell(&findings.join(";")),
             opt_text(r.logged_at.as_deref()),
+            text_cell(&r.copies.join(";")),
         ];
         for (index, field) in fields.iter().enumerate() {
             if index > 0 {
                 line.push(',');
             }
             line.push_str(field);
+        }
+        for (_, value) in &r.kept {
+            line.push(',');
+            line.push_str(&opt_text(value.as_deref()));
         }
         line.push('\n');
         out.write_all(line.as_bytes())?;
@@ -469,7 +522,12 @@ pub fn runs_frame(runs: &[RunResult]) -> PolarsResult<DataFrame> {
             )
         }),
         text("logged_at", &|r| r.logged_at.clone()),
+        text("copies", &|r| Some(r.copies.join(";"))),
     ];
+    let mut columns = columns;
+    for (at, name) in kept_names(runs).into_iter().enumerate() {
+        columns.push(text(name, &|r| r.kept.get(at).and_then(|(_, v)| v.clone())));
+    }
     DataFrame::new(runs.len(), columns)
 }
 

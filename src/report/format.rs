@@ -10,6 +10,8 @@ pub enum OutputFormat {
     Csv,
     Parquet,
     Markdown,
+    /// JUnit XML for CI systems.
+    Junit,
 }
 
 impl OutputFormat {
@@ -40,6 +42,20 @@ impl OutputFormat {
             OutputFormat::Csv => "csv",
             OutputFormat::Parquet => "parquet",
             OutputFormat::Markdown => "markdown",
+            OutputFormat::Junit => "junit",
+        }
+    }
+
+    /// What the format writes, in words.
+    pub fn description(self) -> &'static str {
+        match self {
+            OutputFormat::Table => "a terminal table",
+            OutputFormat::Json => "one JSON document",
+            OutputFormat::Ndjson => "JSON lines",
+            OutputFormat::Csv => "CSV",
+            OutputFormat::Parquet => "Parquet",
+            OutputFormat::Markdown => "Markdown",
+            OutputFormat::Junit => "JUnit XML",
         }
     }
 }

@@ -737,6 +737,9 @@ fn run_rows(doc: &AuditDocument, run: &RunResult) -> String {
         escape_html(&run.explanation),
         percent(run.certifiable_accuracy)
     )];
+    if let Some(carried) = super::text::carried_line(run) {
+        items.push(format!("<li class=\"sub\">{}</li>", escape_html(&carried)));
+    }
     items.extend(run.findings.iter().map(|f| {
         format!(
             "<li><code>{}</code> {}</li>",

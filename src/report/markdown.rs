@@ -81,6 +81,9 @@ pub fn write_markdown(
                 escape_markdown(&run.run),
                 escape_markdown(&run.explanation)
             )?;
+            if let Some(carried) = super::text::carried_line(run) {
+                writeln!(out, "  - {}", escape_markdown(&carried))?;
+            }
             for finding in &run.findings {
                 let message = if finding.message.is_empty() {
                     crate::audit::explain::finding_message(run, finding.code, &settings)

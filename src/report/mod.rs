@@ -10,6 +10,7 @@ pub mod escape;
 pub mod flat;
 pub mod format;
 pub mod html;
+pub mod junit;
 pub mod markdown;
 pub mod splits;
 pub mod table;
@@ -40,6 +41,7 @@ pub fn write_report(
         OutputFormat::Csv => flat::write_csv(&doc.runs, out),
         OutputFormat::Parquet => flat::write_parquet(&doc.runs, out),
         OutputFormat::Markdown => markdown::write_markdown(doc, out, presentation),
+        OutputFormat::Junit => junit::write_junit(doc, out),
     }
 }
 

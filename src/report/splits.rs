@@ -165,7 +165,9 @@ pub fn write_splits_markdown(splits: &[SplitEntry], out: &mut dyn Write) -> io::
 
 /// The splits as a polars DataFrame, one row per split with the fields of the JSON
 /// entries (the wear history as JSON text), for programs that embed gapcert.
-pub fn splits_frame(splits: &[SplitEntry]) -> polars::prelude::PolarsResult<polars::prelude::DataFrame> {
+pub fn splits_frame(
+    splits: &[SplitEntry],
+) -> polars::prelude::PolarsResult<polars::prelude::DataFrame> {
     use polars::prelude::*;
     let text = |name: &str, f: &dyn Fn(&SplitEntry) -> Option<String>| -> Column {
         Series::new(name.into(), splits.iter().map(f).collect::<Vec<_>>()).into()

@@ -133,6 +133,13 @@ pub fn write_table(
                 "{}",
                 wrap(&run.explanation, width, &format!("  {name}: "), "      ")
             )?;
+            if let Some(carried) = super::text::carried_line(run) {
+                writeln!(
+                    out,
+                    "{}",
+                    wrap(&printable(&carried), width, "    · ", "      ")
+                )?;
+            }
             for finding in &run.findings {
                 let message = if finding.message.is_empty() {
                     crate::audit::explain::finding_message(run, finding.code, &settings)

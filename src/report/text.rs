@@ -134,10 +134,17 @@ pub fn summary_line(doc: &AuditDocument) -> String {
         doc.settings.holdout_bound.as_str(),
         if doc.settings.familywise { ", family-wise" } else { "" }
     );
-    line.push_str(&format!(
-        " Rows read: {} ({} audited, {} skipped).",
-        s.rows_read, s.runs, s.rows_skipped
-    ));
+    if s.copies_set_aside > 0 {
+        line.push_str(&format!(
+            " Rows read: {} ({} audited, {} skipped, {} copies of runs read elsewhere set aside).",
+            s.rows_read, s.runs, s.rows_skipped, s.copies_set_aside
+        ));
+    } else {
+        line.push_str(&format!(
+            " Rows read: {} ({} audited, {} skipped).",
+            s.rows_read, s.runs, s.rows_skipped
+        ));
+    }
     if s.claims > 0 {
         line.push_str(&format!(
             " Claims: {} ({} certified, {} unproven, {} refuted).",
@@ -145,9 +152,19 @@ pub fn summary_line(doc: &AuditDocument) -> String {
         ));
     }
     line.push_str(if doc.settings.percent {
-        " Rates and claims read as percentages."
+        " Rates and claims read as percentages"
     } else {
-        " Rates and claims read as fractions."
+        " Rates and claims read as fractions"
+    });
+    let other_scale = doc
+        .settings
+        .map_sections
+        .iter()
+        .any(|section| section.percent.is_some_and(|p| p != doc.settings.percent));
+    line.push_str(if other_scale {
+        ", except in files the map file's sections read otherwise."
+    } else {
+        "."
     });
     if s.gate_findings > 0 {
         line.push_str(&format!(
@@ -165,6 +182,27 @@ pub fn summary_line(doc: &AuditDocument) -> String {
         ));
     }
     line
+}
+
+/// What a run carries besides its audit, in words: the `--keep` columns and the
+/// sources of the copies set aside; `None` when neither.
+pub fn carried_line(run: &RunResult) -> Option<String> {
+    let mut parts = Vec::new();
+    if !run.kept.is_empty() {
+        let cells: Vec<String> = run
+            .kept
+            .iter()
+            .map(|(name, value)| format!("{name} = {}", value.as_deref().unwrap_or("(empty)")))
+            .collect();
+        parts.push(cells.join(", "));
+    }
+    if !run.copies.is_empty() {
+        parts.push(format!(
+            "also read, identical, at {} (counted once)",
+            run.copies.join(", ")
+        ));
+    }
+    (!parts.is_empty()).then(|| parts.join("; "))
 }
 
 /// Text from the logs made safe for a terminal: line breaks and tabs become spaces

@@ -54,6 +54,9 @@ fn run_input() -> impl Strategy<Value = RunInput> {
                 claim_error_rate: claim,
                 claim_form: claim.map(|_| ClaimForm::ErrorRate),
                 logged_at: None,
+                copies: Vec::new(),
+                id_repeated: false,
+                kept: Vec::new(),
             }
         })
 }

@@ -905,31 +905,33 @@ fn assert_sane_runs(doc: &Value, what: &str) {
 fn counts_up_to_i64_max_and_huge_families_audit_or_fail_cleanly() {
     let dir = tempfile::tempdir().unwrap();
     write(dir.path(), "extreme.csv", &extreme_log());
-    for extra in [
-        vec![],
-        vec!["--confidence", "0.9999999999999999"],
-        vec!["--holdout-bound", "hoeffding"],
-        vec!["--familywise", "--confidence", "0.9999999999999999"],
-        // One split declared: the split names are mapped away (a column the log
-        // does not have), since several named splits contradict --same-holdout.
-        vec![
-            "--same-holdout",
-            "--map",
-            "holdout_set=no_such_column",
-            "--tolerance",
-            "1e-9",
-            "--max-width",
-            "1e-300",
-        ],
-    ] {
-        let mut args = vec![
-            "audit",
+    // One split declared: the split names are renamed out of the way in a copy,
+    // since several named splits contradict --same-holdout.
+    write(
+        dir.path(),
+        "extreme_one_split.csv",
+        &extreme_log().replacen("holdout_set", "split_note", 1),
+    );
+    for (log, extra) in [
+        ("extreme.csv", vec![]),
+        ("extreme.csv", vec!["--confidence", "0.9999999999999999"]),
+        ("extreme.csv", vec!["--holdout-bound", "hoeffding"]),
+        (
             "extreme.csv",
-            "--format",
-            "json",
-            "--gate",
-            "never",
-        ];
+            vec!["--familywise", "--confidence", "0.9999999999999999"],
+        ),
+        (
+            "extreme_one_split.csv",
+            vec![
+                "--same-holdout",
+                "--tolerance",
+                "1e-9",
+                "--max-width",
+                "1e-300",
+            ],
+        ),
+    ] {
+        let mut args = vec!["audit", log, "--format", "json", "--gate", "never"];
         args.extend(extra.iter().copied());
         let finished = run(dir.path(), &args);
         assert_eq!(finished.code, Some(0), "{extra:?}: {}", finished.stderr);
@@ -1006,6 +1008,9 @@ fn tiny_failure_probabilities_give_finite_bounds() {
         claim_error_rate: claim,
         claim_form: claim.map(|_| ClaimForm::ErrorRate),
         logged_at: None,
+        copies: Vec::new(),
+        id_repeated: false,
+        kept: Vec::new(),
     };
     for bound in [HoldoutBound::Binomial, HoldoutBound::Hoeffding] {
         let settings = AuditSettings {

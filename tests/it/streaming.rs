@@ -150,6 +150,51 @@ fn streamed_folder_of_every_format_equals_in_memory_audit() {
 }
 
 #[test]
+fn streamed_copies_are_set_aside_as_in_memory() {
+    // Identical files, a re-saved copy (other bytes, the same runs) and a repeated
+    // identifier with other values: streamed with nothing held, copies are found by
+    // key; held, by comparing runs. Both equal the in-memory audit.
+    let dir = tempfile::tempdir().unwrap();
+    let demo = std::fs::read_to_string(fixture("demo/runs.csv")).unwrap();
+    std::fs::write(dir.path().join("runs.csv"), &demo).unwrap();
+    std::fs::write(dir.path().join("runs (copy).csv"), &demo).unwrap();
+    std::fs::write(dir.path().join("resaved.csv"), demo.replace('\n', "\r\n")).unwrap();
+    let mut lines: Vec<&str> = demo.lines().collect();
+    // The first run again with one more error: same identifier, other values.
+    let changed = lines[1].replacen(",511,", ",512,", 1);
+    assert_ne!(changed, lines[1]);
+    lines.truncate(2);
+    lines.push(&changed);
+    std::fs::write(dir.path().join("extra.csv"), lines.join("\n") + "\n").unwrap();
+    let paths = [dir.path().to_path_buf()];
+    let doc = gapcert::audit_paths(
+        &paths,
+        &AuditSettings::default(),
+        &IngestSettings::default(),
+    )
+    .expect("valid logs");
+    assert_eq!(doc.summary.runs, 22);
+    assert_eq!(doc.summary.copies_set_aside, 21 * 2 + 1);
+    assert!(doc.runs.iter().filter(|run| run.copies.len() >= 2).count() == 21);
+    let repeated: Vec<&str> = doc
+        .runs
+        .iter()
+        .filter(|run| {
+            run.findings
+                .iter()
+                .any(|f| f.code.as_str() == "run_id_repeated")
+        })
+        .map(|run| run.source.as_str())
+        .collect();
+    assert_eq!(repeated.len(), 2, "{repeated:?}");
+    assert_same_as_in_memory(
+        &paths,
+        &AuditSettings::default(),
+        &IngestSettings::default(),
+    );
+}
+
+#[test]
 fn streamed_parquet_row_groups_equal_in_memory_audit() {
     let folder = tempfile::tempdir().expect("temporary folder");
     for group_rows in [1, 4, 7, 1000] {
