@@ -82,8 +82,8 @@ pub fn set_aside_copies(runs: &mut Vec<RunInput>) -> usize {
 /// [`set_aside_copies`] over runs held in batches (in input order), without
 /// gathering them into one vector.
 pub fn set_aside_copies_in_batches(batches: &mut [Vec<RunInput>]) -> usize {
+    use foldhash::{HashMap, HashMapExt};
     use std::collections::hash_map::Entry;
-    use std::collections::HashMap;
     type At = (usize, usize);
     // (kept run, source of its copy), and the runs sharing an identifier but differing.
     let mut copies: Vec<(At, At)> = Vec::new();

@@ -247,6 +247,8 @@ pub struct Collected {
     pub file_copies: FileCopies,
     /// Per `--keep` name: whether any usable log has the column.
     pub kept_found: Vec<bool>,
+    /// Index in `inputs` of the first file with each (SHA-256, size).
+    by_content: std::collections::HashMap<(String, u64), usize>,
 }
 
 /// Files set aside as copies of earlier files, by the label of the file they copy:
@@ -311,11 +313,15 @@ impl Collected {
         // A file whose bytes equal an earlier one's (`runs (copy).csv`) is read once:
         // its runs would otherwise count twice, and double every K.
         if let Some(input) = &log.input {
-            if let Some(first) = self
-                .inputs
-                .iter()
-                .find(|i| i.sha256 == input.sha256 && i.size == input.size)
-            {
+            let key = (input.sha256.clone(), input.size);
+            let first = match self.by_content.get(&key) {
+                Some(&at) => Some(&self.inputs[at]),
+                None => {
+                    self.by_content.insert(key, self.inputs.len());
+                    None
+                }
+            };
+            if let Some(first) = first {
                 self.skipped_files.push(SkippedFile {
                     path: log.label.clone(),
                     reason: format!("identical to {}, whose runs are counted once", first.path),
