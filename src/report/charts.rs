@@ -341,6 +341,47 @@ fn finite_rate(value: f64) -> f64 {
     }
 }
 
+/// The frame of the charts with one row per run or claim: `rows` rows over the x range,
+/// the x axis labelled by `x_label` and described by `x_desc`, no y labels, and zebra
+/// stripes for the eye to follow a row across (row 0 at the top).
+fn row_chart<'a, DB: DrawingBackend>(
+    body: &'a DrawingArea<DB, plotters::coord::Shift>,
+    x_range: std::ops::Range<f64>,
+    rows: usize,
+    x_label: &dyn Fn(&f64) -> String,
+    x_desc: &str,
+) -> io::Result<ChartContext<'a, DB, Cartesian2d<plotters::coord::types::RangedCoordf64, plotters::coord::types::RangedCoordf64>>> {
+    let (x_min, x_max) = (x_range.start, x_range.end);
+    let mut chart = ChartBuilder::on(body)
+        .margin_right(INTERVAL_VERDICT_WIDTH)
+        .margin_top(6)
+        .x_label_area_size(INTERVAL_AXIS_HEIGHT)
+        .y_label_area_size(INTERVAL_LABEL_WIDTH)
+        .build_cartesian_2d(x_range, 0f64..rows as f64)
+        .map_err(chart_error)?;
+    chart
+        .configure_mesh()
+        .disable_y_mesh()
+        .y_label_formatter(&|_| String::new())
+        .y_labels(2)
+        .x_labels(12)
+        .x_label_formatter(x_label)
+        .x_desc(x_desc)
+        .label_style(text_style(15, TEXT_COLOR))
+        .axis_desc_style(text_style(16, TEXT_COLOR))
+        .light_line_style(WHITE)
+        .bold_line_style(GRID_COLOR)
+        .draw()
+        .map_err(chart_error)?;
+    chart
+        .draw_series((0..rows).step_by(2).map(|i| {
+            let y = rows as f64 - i as f64 - 0.5;
+            Rectangle::new([(x_min, y - 0.5), (x_max, y + 0.5)], STRIPE_COLOR.filled())
+        }))
+        .map_err(chart_error)?;
+    Ok(chart)
+}
+
 /// The interval chart: one row per run (in the order given), the two-sided held-out
 /// interval as a bar styled by verdict, the observed error as a dot, the claim as a
 /// notched bar and the training error as a cross. `method` names the interval.
@@ -369,41 +410,14 @@ pub fn interval_chart_svg(rows: &[IntervalRow], method: &str) -> io::Result<Stri
         let (legend, body) = root.split_vertically(INTERVAL_LEGEND_HEIGHT);
         draw_interval_legend(&legend, method)?;
 
-        let mut chart = ChartBuilder::on(&body)
-            .margin_right(INTERVAL_VERDICT_WIDTH)
-            .margin_top(6)
-            .x_label_area_size(INTERVAL_AXIS_HEIGHT)
-            .y_label_area_size(INTERVAL_LABEL_WIDTH)
-            .build_cartesian_2d(0f64..x_max, 0f64..count as f64)
-            .map_err(chart_error)?;
-        chart
-            .configure_mesh()
-            .disable_y_mesh()
-            .y_label_formatter(&|_| String::new())
-            .y_labels(2)
-            .x_labels(12)
-            .x_label_formatter(&|v| format!("{:.1}%", v * 100.0))
-            .x_desc("error rate (held-out, claimed and training)")
-            .label_style(text_style(15, TEXT_COLOR))
-            .axis_desc_style(text_style(16, TEXT_COLOR))
-            .light_line_style(WHITE)
-            .bold_line_style(GRID_COLOR)
-            .draw()
-            .map_err(chart_error)?;
-
+        let chart = row_chart(
+            &body,
+            0.0..x_max,
+            count,
+            &|v| format!("{:.1}%", v * 100.0),
+            "error rate (held-out, claimed and training)",
+        )?;
         let row_center = |index: usize| count as f64 - index as f64 - 0.5;
-        // Zebra stripes for the eye to follow a row across.
-        chart
-            .draw_series(
-                rows.iter()
-                    .enumerate()
-                    .filter(|(i, _)| i % 2 == 0)
-                    .map(|(i, _)| {
-                        let y = row_center(i);
-                        Rectangle::new([(0.0, y - 0.5), (x_max, y + 0.5)], STRIPE_COLOR.filled())
-                    }),
-            )
-            .map_err(chart_error)?;
 
         let pixel = |x: f64, y: f64| chart.backend_coord(&(x, y));
         let (plot_left, plot_right) = {
@@ -576,39 +590,14 @@ pub fn claims_chart_svg(rows: &[ClaimRow]) -> io::Result<String> {
                 style,
             ))
             .map_err(chart_error)?;
-        let mut chart = ChartBuilder::on(&body)
-            .margin_right(INTERVAL_VERDICT_WIDTH)
-            .margin_top(6)
-            .x_label_area_size(INTERVAL_AXIS_HEIGHT)
-            .y_label_area_size(INTERVAL_LABEL_WIDTH)
-            .build_cartesian_2d(x_min..x_max, 0f64..count as f64)
-            .map_err(chart_error)?;
-        chart
-            .configure_mesh()
-            .disable_y_mesh()
-            .y_label_formatter(&|_| String::new())
-            .y_labels(2)
-            .x_labels(12)
-            .x_label_formatter(&|v| format!("{:.1}", v * 100.0))
-            .x_desc("percentage points: error E, gap E − E_in, or difference Δ = E_run − E_base")
-            .label_style(text_style(15, TEXT_COLOR))
-            .axis_desc_style(text_style(16, TEXT_COLOR))
-            .light_line_style(WHITE)
-            .bold_line_style(GRID_COLOR)
-            .draw()
-            .map_err(chart_error)?;
+        let mut chart = row_chart(
+            &body,
+            x_min..x_max,
+            count,
+            &|v| format!("{:.1}", v * 100.0),
+            "percentage points: error E, gap E − E_in, or difference Δ = E_run − E_base",
+        )?;
         let row_center = |index: usize| count as f64 - index as f64 - 0.5;
-        chart
-            .draw_series(
-                rows.iter()
-                    .enumerate()
-                    .filter(|(i, _)| i % 2 == 0)
-                    .map(|(i, _)| {
-                        let y = row_center(i);
-                        Rectangle::new([(x_min, y - 0.5), (x_max, y + 0.5)], STRIPE_COLOR.filled())
-                    }),
-            )
-            .map_err(chart_error)?;
         if x_min < 0.0 && x_max > 0.0 {
             chart
                 .draw_series(std::iter::once(PathElement::new(
