@@ -350,7 +350,13 @@ fn row_chart<'a, DB: DrawingBackend>(
     rows: usize,
     x_label: &dyn Fn(&f64) -> String,
     x_desc: &str,
-) -> io::Result<ChartContext<'a, DB, Cartesian2d<plotters::coord::types::RangedCoordf64, plotters::coord::types::RangedCoordf64>>> {
+) -> io::Result<
+    ChartContext<
+        'a,
+        DB,
+        Cartesian2d<plotters::coord::types::RangedCoordf64, plotters::coord::types::RangedCoordf64>,
+    >,
+> {
     let (x_min, x_max) = (x_range.start, x_range.end);
     let mut chart = ChartBuilder::on(body)
         .margin_right(INTERVAL_VERDICT_WIDTH)
@@ -688,7 +694,13 @@ pub fn wear_chart_svg(entry: &SplitEntry) -> io::Result<String> {
         .filter(|v| v.is_finite());
     let (low, high) = values.fold((1.0_f64, 0.0_f64), |(lo, hi), v| (lo.min(v), hi.max(v)));
     let pad = ((high - low) * 0.12).max(0.002);
-    let (y_min, y_max) = ((low - pad).max(0.0), (high + pad).min(1.0));
+    let y_min = (low - pad).max(0.0);
+    // Headroom for the legend (upper right): the curve and the claim span the whole
+    // width, so without it the legend covers them. The plot is about 236 px high; each
+    // legend entry takes about 18 px.
+    let entries = 2 + usize::from(claim.is_some()) + usize::from(!entry.history.is_empty());
+    let legend_share = ((entries * 18 + 28) as f64 / 236.0).min(0.6);
+    let y_max = (y_min + (high + pad - y_min) / (1.0 - legend_share)).min(1.0);
     let mut svg = String::new();
     {
         let root = SVGBackend::with_string(&mut svg, (width, height)).into_drawing_area();
