@@ -127,7 +127,7 @@ pub fn finding_message(run: &RunResult, code: FindingCode, settings: &AuditSetti
                 "training error plus VC allowance is {sum:.3}, at least 1, so the VC bound is 1 and the training data alone guarantee nothing; {} would need about {} training examples for an allowance of {}",
                 run.family.as_deref().unwrap_or("this family"),
                 run.train_needed
-                    .map(|n| n.to_string())
+                    .map(crate::decimal::group_thousands)
                     .unwrap_or_else(|| "an unbounded number of".to_string()),
                 settings.tolerance
             );

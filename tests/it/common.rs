@@ -218,3 +218,17 @@ pub fn parse_csv_text(text: &str) -> Vec<HashMap<String, String>> {
         .map(|r| header.iter().cloned().zip(r).collect())
         .collect()
 }
+
+/// `n` with a comma every three digits (12,345,678), written here independently of
+/// the crate's own formatter.
+pub fn group(n: u64) -> String {
+    let digits = n.to_string();
+    let mut grouped = String::new();
+    for (i, digit) in digits.chars().enumerate() {
+        if i > 0 && (digits.len() - i) % 3 == 0 {
+            grouped.push(',');
+        }
+        grouped.push(digit);
+    }
+    grouped
+}

@@ -521,6 +521,12 @@ fn values_and_messages_agree_and_family_typos_get_a_suggestion() {
         .as_str()
         .unwrap();
     assert!(message.contains("so the VC bound is 1"), "{message}");
+    // The training size it would need, grouped like every other count in a sentence.
+    let needed = crate::common::group(relu["train_needed"].as_u64().unwrap());
+    assert!(
+        message.contains(&format!("need about {needed} training examples")),
+        "{message}"
+    );
     // A typo in a family key.
     let dir = tempfile::tempdir().unwrap();
     write(
