@@ -219,6 +219,20 @@ pub fn finding_message(run: &RunResult, code: FindingCode, settings: &AuditSetti
     text
 }
 
+/// The sentence of one of `run`'s findings: its message, or written now when a
+/// codes-only audit left it empty.
+pub fn finding_sentence<'a>(
+    run: &RunResult,
+    finding: &'a super::Finding,
+    settings: &AuditSettings,
+) -> std::borrow::Cow<'a, str> {
+    if finding.message.is_empty() {
+        std::borrow::Cow::Owned(finding_message(run, finding.code, settings))
+    } else {
+        std::borrow::Cow::Borrowed(&finding.message)
+    }
+}
+
 /// Writes every finding's sentence of `run` (those left empty by a codes-only audit).
 pub fn fill_messages(run: &mut RunResult, settings: &AuditSettings) {
     for index in 0..run.findings.len() {

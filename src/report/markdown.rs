@@ -85,11 +85,7 @@ pub fn write_markdown(
                 writeln!(out, "  - {}", escape_markdown(&carried))?;
             }
             for finding in &run.findings {
-                let message = if finding.message.is_empty() {
-                    crate::audit::explain::finding_message(run, finding.code, &settings)
-                } else {
-                    finding.message.clone()
-                };
+                let message = crate::audit::explain::finding_sentence(run, finding, &settings);
                 writeln!(
                     out,
                     "  - `{}`: {}",

@@ -141,11 +141,7 @@ pub fn write_table(
                 )?;
             }
             for finding in &run.findings {
-                let message = if finding.message.is_empty() {
-                    crate::audit::explain::finding_message(run, finding.code, &settings)
-                } else {
-                    finding.message.clone()
-                };
+                let message = crate::audit::explain::finding_sentence(run, finding, &settings);
                 writeln!(
                     out,
                     "{}",
