@@ -232,20 +232,7 @@ fn run_keeping_worst(
     terminal: Terminal,
 ) -> Result<GateResult, Error> {
     let progress = Progress::start(terminal, "reading logs");
-    let prepared = prepare(spec, request, &progress);
-    let prepared = match prepared.and_then(|p| p.check(&request.audit).map(|_| p)) {
-        Ok(prepared) => prepared,
-        Err(error) => {
-            progress.finish();
-            return Err(error);
-        }
-    };
-    list_skipped(
-        terminal,
-        &prepared.skipped_files,
-        &prepared.skipped_rows,
-        &prepared.notes,
-    );
+    let prepared = prepare_checked(spec, request, terminal, &progress)?;
     let keep = request
         .presentation
         .top
@@ -270,15 +257,18 @@ fn run_keeping_worst(
     Ok(doc.summary.gate)
 }
 
-/// The first pass of a streamed audit over the logs of `spec`.
-fn prepare(
+/// The first pass of a streamed audit over the logs of `spec`, the check of the
+/// settings against the runs, and under `-v` what was skipped; on an error the
+/// progress display is closed.
+fn prepare_checked(
     spec: &Source,
     request: &AuditRequest,
+    terminal: Terminal,
     progress: &Progress,
 ) -> Result<gapcert::pipeline::PreparedAudit<'static>, Error> {
     let report_file = |done, total| progress.file_read(done, total);
     let limits = StreamLimits::default();
-    match spec {
+    let prepared = match spec {
         Source::Found(discovery) => {
             gapcert::pipeline::prepare_discovered(discovery, &request.ingest, limits, &report_file)
         }
@@ -289,6 +279,21 @@ fn prepare(
             &report_file,
         ),
     }
+    .and_then(|prepared| prepared.check(&request.audit).map(|_| prepared));
+    let prepared = match prepared {
+        Ok(prepared) => prepared,
+        Err(error) => {
+            progress.finish();
+            return Err(error);
+        }
+    };
+    list_skipped(
+        terminal,
+        &prepared.skipped_files,
+        &prepared.skipped_rows,
+        &prepared.notes,
+    );
+    Ok(prepared)
 }
 
 /// An audit whose only output is JSON lines or CSV: streamed batch by batch
@@ -301,36 +306,8 @@ fn run_streaming(
     terminal: Terminal,
 ) -> Result<GateResult, Error> {
     let format = request.format;
-    let limits = StreamLimits::default();
     let progress = Progress::start(terminal, "reading logs");
-    let report_file = |done, total| progress.file_read(done, total);
-    let demo_sources;
-    let prepared = match spec {
-        Source::Found(discovery) => {
-            gapcert::pipeline::prepare_discovered(discovery, &request.ingest, limits, &report_file)
-        }
-        Source::Demo => {
-            demo_sources = gapcert::demo::sources();
-            gapcert::pipeline::prepare(&demo_sources, &request.ingest, limits, &report_file)
-        }
-    };
-    let prepared = match prepared {
-        Ok(prepared) => prepared,
-        Err(error) => {
-            progress.finish();
-            return Err(error);
-        }
-    };
-    if let Err(error) = prepared.check(&request.audit) {
-        progress.finish();
-        return Err(error);
-    }
-    list_skipped(
-        terminal,
-        &prepared.skipped_files,
-        &prepared.skipped_rows,
-        &prepared.notes,
-    );
+    let prepared = prepare_checked(spec, request, terminal, &progress)?;
     progress.auditing(prepared.runs());
     let started = std::time::Instant::now();
     let mut summary = None;

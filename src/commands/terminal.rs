@@ -251,8 +251,8 @@ impl Progress {
         }
     }
 
-    pub fn finish(self) {
-        if let Some(bar) = self.bar {
+    pub fn finish(&self) {
+        if let Some(bar) = &self.bar {
             bar.finish_and_clear();
         }
     }
