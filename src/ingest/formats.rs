@@ -1,6 +1,8 @@
 //! Turning the bytes of one log file into a table of columns.
 //!
-//! CSV, TSV, Parquet and Arrow IPC are read by polars. JSON and JSON lines are parsed
+//! CSV, TSV, Parquet and Arrow IPC are read by polars; their struct columns are
+//! flattened into one column per field, named by its dotted path as nested JSON keys
+//! are ([`flatten_structs`]). JSON and JSON lines are parsed
 //! with serde_json and assembled into a polars DataFrame here: polars' JSON reader may
 //! turn a value of an unexpected type into null, and a silently vanished value is what
 //! an audit must never allow. Parsing ourselves also gives the exact record of a
@@ -134,11 +136,15 @@ pub fn read_table(
             .map(|df| (df, Vec::new()))
         }
         LogFormat::Parquet => guarded(label, "Parquet", || {
-            ParquetReader::new(Cursor::new(bytes)).finish()
+            ParquetReader::new(Cursor::new(bytes))
+                .finish()
+                .and_then(flatten_structs)
         })
         .map(|df| (df, Vec::new())),
         LogFormat::Arrow => guarded(label, "Arrow IPC", || {
-            IpcReader::new(Cursor::new(bytes)).finish()
+            IpcReader::new(Cursor::new(bytes))
+                .finish()
+                .and_then(flatten_structs)
         })
         .map(|df| (df, Vec::new())),
         LogFormat::JsonLines => read_json_lines(label, strip_bom(bytes)),
@@ -259,12 +265,48 @@ impl LogTable<'_> {
                     let mut reader = ParquetReader::new(Cursor::new(&bytes[..]))
                         .with_slice(Some((offset, length)));
                     reader.set_metadata(metadata.clone());
-                    reader.finish()
+                    reader.finish().and_then(flatten_structs)
                 })?;
                 Ok((df, Vec::new()))
             }
         }
     }
+}
+
+/// Replaces every struct column (Parquet's and Arrow's nested records) by one column
+/// per field, named by its dotted path (`metrics.val.acc`), as nested JSON objects are
+/// read: `--map holdout_accuracy=metrics.val.acc` then names either, and a path that
+/// stops at a struct gets the same message as one that stops at a JSON object. A row
+/// whose struct is null has every field null.
+pub fn flatten_structs(df: DataFrame) -> PolarsResult<DataFrame> {
+    let is_struct = |dtype: &DataType| matches!(dtype, DataType::Struct(_));
+    if !df.columns().iter().any(|column| is_struct(column.dtype())) {
+        return Ok(df);
+    }
+    fn push_fields(series: Series, out: &mut Vec<Column>) -> PolarsResult<()> {
+        if !matches!(series.dtype(), DataType::Struct(_)) {
+            out.push(series.into_column());
+            return Ok(());
+        }
+        // A struct's fields do not carry the struct's own nulls until propagated.
+        let series = series.propagate_nulls().unwrap_or(series);
+        let parent = series.name().clone();
+        for field in series.struct_()?.fields_as_series() {
+            let name = format!("{parent}.{}", field.name());
+            push_fields(field.with_name(name.into()), out)?;
+        }
+        Ok(())
+    }
+    let height = df.height();
+    let mut columns = Vec::with_capacity(df.width());
+    for column in df.into_columns() {
+        push_fields(column.as_materialized_series().clone(), &mut columns)?;
+    }
+    let mut names = std::collections::HashSet::new();
+    if let Some(twice) = columns.iter().find(|column| !names.insert(column.name())) {
+        polars_bail!(Duplicate: "two columns are named `{}` once struct fields are named by their dotted paths: a column of that name and a field of a struct column", twice.name());
+    }
+    DataFrame::new(height, columns)
 }
 
 fn strip_bom(bytes: &[u8]) -> &[u8] {

@@ -159,6 +159,88 @@ fn dotted_paths_reach_into_nested_json() {
     );
 }
 
+/// Parquet and Arrow logs written by a script that keeps its metrics in nested
+/// records (struct columns), as the JSON sweep above nests objects (invented runs).
+fn nested_frame() -> DataFrame {
+    let n = Series::new("n".into(), [4000i64, 4000]);
+    let acc = Series::new("acc".into(), [0.96, 0.94]);
+    let val = StructChunked::from_series("val".into(), 2, [n, acc].iter())
+        .unwrap()
+        .into_series();
+    let metrics = StructChunked::from_series("metrics".into(), 2, [val].iter())
+        .unwrap()
+        .into_series();
+    DataFrame::new(
+        2,
+        vec![
+            Series::new("run".into(), ["nested-1", "nested-2"]).into_column(),
+            metrics.into_column(),
+            Series::new("claimed_accuracy".into(), [0.9, 0.9]).into_column(),
+        ],
+    )
+    .unwrap()
+}
+
+#[test]
+fn dotted_paths_reach_into_parquet_and_arrow_struct_columns() {
+    let dir = tempfile::tempdir().unwrap();
+    let mut frame = nested_frame();
+    let parquet = std::fs::File::create(dir.path().join("nested.parquet")).unwrap();
+    ParquetWriter::new(parquet).finish(&mut frame).unwrap();
+    let arrow = std::fs::File::create(dir.path().join("nested.arrow")).unwrap();
+    IpcWriter::new(arrow).finish(&mut frame).unwrap();
+    for file in ["nested.parquet", "nested.arrow"] {
+        let doc = json_in(
+            dir.path(),
+            &[
+                "audit",
+                file,
+                "--map",
+                "holdout_accuracy=metrics.val.acc",
+                "--map",
+                "holdout_n=metrics.val.n",
+                "--gate",
+                "never",
+            ],
+        );
+        let run = run_named(&doc, "nested-2");
+        assert_eq!(run["holdout_n"], 4000, "{file}");
+        assert_eq!(run["holdout_misclassified"], 240, "{file}");
+        // A path that stops at a struct names it and its fields, as for JSON objects.
+        let err = fails(
+            dir.path(),
+            &[
+                "audit",
+                file,
+                "--map",
+                "holdout_accuracy=metrics.val",
+                "--map",
+                "holdout_n=metrics.val.n",
+            ],
+        );
+        assert!(
+            err.contains("`metrics.val` is an object") && err.contains("metrics.val.acc"),
+            "{file}: {err}"
+        );
+        // An absent path lists the dotted columns and the closest one.
+        let err = fails(
+            dir.path(),
+            &[
+                "audit",
+                file,
+                "--map",
+                "holdout_accuracy=metrics.val.ac",
+                "--map",
+                "holdout_n=metrics.val.n",
+            ],
+        );
+        assert!(
+            err.contains("did you mean `metrics.val.acc`?"),
+            "{file}: {err}"
+        );
+    }
+}
+
 /// A notebook export with its own names (percentages) and a Parquet log with the
 /// canonical names (fractions), on one shared split.
 fn mixed_folder(dir: &Path, notebook_in_percent: bool) {
