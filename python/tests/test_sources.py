@@ -198,3 +198,20 @@ def test_json_document_shape(from_file):
     assert list(document)[:5] == ["tool", "generated_at", "settings", "inputs", "runs"]
     assert document["tool"] == {"name": "gapcert", "version": gapcert.__version__}
     assert from_file.to_dict()["summary"] == from_file.summary
+
+
+def test_struct_columns_of_a_frame_are_read_by_dotted_paths():
+    # A frame whose metrics sit in a struct column (a column of dicts), invented runs:
+    # the same dotted --map that reads nested JSON reads its fields.
+    frame = pl.DataFrame(
+        {
+            "run": ["nested-1", "nested-2"],
+            "metrics": [{"n": 4000, "acc": 0.96}, {"n": 4000, "acc": 0.94}],
+            "claimed_accuracy": [0.9, 0.9],
+        }
+    )
+    report = gapcert.audit(frame, map={"holdout_n": "metrics.n", "holdout_accuracy": "metrics.acc"})
+    assert report.runs["holdout_misclassified"].to_list() == [160, 240]
+    with pytest.raises(gapcert.InputError) as caught:
+        gapcert.audit(frame, map={"holdout_n": "metrics", "holdout_accuracy": "metrics.acc"})
+    assert any("`metrics` is an object" in problem["message"] for problem in caught.value.problems)
