@@ -250,7 +250,11 @@ pub fn table_runs(
             .collect()
     };
     let mut columns: Vec<ColumnCells<'_>> = Vec::with_capacity(extracted.len());
+    // A column of a type that holds no numbers (a list, say) is one problem of the
+    // file; its empty cells are not problems of every row as well.
+    let mut unreadable: Vec<bool> = Vec::with_capacity(extracted.len());
     for (cells, mut problems) in extracted {
+        unreadable.push(problems.iter().any(|problem| problem.row.is_none()));
         cell_problems.append(&mut problems);
         columns.push(cells);
     }
@@ -300,6 +304,7 @@ pub fn table_runs(
         row_offset,
         settings,
         columns,
+        unreadable,
         names,
         kept: kept_cells,
     };
@@ -407,6 +412,9 @@ struct Extracted<'a> {
     settings: &'a IngestSettings,
     /// In the order of `CANONICAL_COLUMNS`.
     columns: Vec<ColumnCells<'a>>,
+    /// Per column, in the same order: the whole column could not be read (its type
+    /// holds no numbers), which is already a problem of the file.
+    unreadable: Vec<bool>,
     /// The column name as written in the file, per canonical field in the order of
     /// `CANONICAL_COLUMNS` (for messages).
     names: Vec<String>,
@@ -442,6 +450,14 @@ impl Extracted<'_> {
             Some(ColumnCells::Text(cells)) => cells[i],
             _ => None,
         }
+    }
+
+    #[inline(always)]
+    fn unreadable(&self, canonical: &str) -> bool {
+        self.unreadable
+            .get(slot(canonical))
+            .copied()
+            .unwrap_or(false)
     }
 
     #[inline(always)]
@@ -530,7 +546,10 @@ impl Extracted<'_> {
         let k_candidates = positive_count("candidates");
 
         let holdout_n_name = self.name("holdout_n");
-        if self.integer("holdout_n", i).is_none() && !row_has_problem_in(&found, holdout_n_name) {
+        if self.integer("holdout_n", i).is_none()
+            && !row_has_problem_in(&found, holdout_n_name)
+            && !self.unreadable("holdout_n")
+        {
             found.push(Problem::cell(
                 label,
                 row,
@@ -562,7 +581,7 @@ impl Extracted<'_> {
             .iter()
             .any(|&canonical| {
                 let name = self.name(canonical);
-                !name.is_empty() && row_has_problem_in(&found, name)
+                self.unreadable(canonical) || (!name.is_empty() && row_has_problem_in(&found, name))
             })
         };
         if holdout.is_none()

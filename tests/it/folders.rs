@@ -735,3 +735,33 @@ fn a_folder_of_many_csv_logs_does_not_nest_reads_on_one_stack() {
         }
     }
 }
+
+/// A list column mapped to a number is one problem of the file, named with its type;
+/// before, every row also said that the column was empty.
+#[test]
+fn a_list_column_mapped_to_a_number_is_one_problem() {
+    let dir = tempfile::tempdir().unwrap();
+    let mut frame = df!(
+        "run" => ["l-1", "l-2", "l-3"],
+        "holdout_error_rate" => [0.05, 0.04, 0.03],
+    )
+    .unwrap();
+    let sizes = Series::new(
+        "sizes".into(),
+        [
+            Series::new("".into(), [1000i64, 10]),
+            Series::new("".into(), [2000i64]),
+            Series::new("".into(), [3000i64]),
+        ],
+    );
+    frame.with_column(sizes.into_column()).unwrap();
+    let file = std::fs::File::create(dir.path().join("lists.parquet")).unwrap();
+    ParquetWriter::new(file).finish(&mut frame).unwrap();
+    let err = fails(
+        dir.path(),
+        &["audit", "lists.parquet", "--map", "holdout_n=sizes"],
+    );
+    assert!(err.contains("column sizes has type list"), "{err}");
+    assert!(!err.contains("is empty"), "{err}");
+    assert!(err.contains("1 problem(s) found"), "{err}");
+}
