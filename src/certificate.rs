@@ -599,11 +599,15 @@ pub struct Verification {
     /// No drift at all.
     pub verified: bool,
     pub drift: Vec<Drift>,
-    /// Inputs and runs the certificate records.
+    /// Inputs, claims files, runs and claims the certificate records.
     #[serde(skip)]
     pub inputs: usize,
     #[serde(skip)]
+    pub claim_files: usize,
+    #[serde(skip)]
     pub runs: usize,
+    #[serde(skip)]
+    pub claims: usize,
 }
 
 /// Reads the certificate at `path`, re-hashes its inputs, recomputes the audit with
@@ -616,6 +620,8 @@ pub fn verify(path: &Path) -> Result<Verification, Error> {
         verified: drift.is_empty(),
         drift,
         inputs: certificate.document.inputs.len(),
+        claim_files: certificate.document.claim_files.len(),
         runs: certificate.document.runs.len(),
+        claims: certificate.document.claims.len(),
     })
 }

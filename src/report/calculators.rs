@@ -199,11 +199,19 @@ impl View for FamilyList {
 impl View for Verification {
     fn write_text(&self, out: &mut dyn Write, _width: Option<u16>) -> io::Result<()> {
         if self.drift.is_empty() {
-            writeln!(
-                out,
-                "{}: verified: {} input(s) unchanged, {} run(s) recomputed with identical results",
-                self.certificate, self.inputs, self.runs
-            )
+            if self.claim_files == 0 {
+                writeln!(
+                    out,
+                    "{}: verified: {} input(s) unchanged, {} run(s) recomputed with identical results",
+                    self.certificate, self.inputs, self.runs
+                )
+            } else {
+                writeln!(
+                    out,
+                    "{}: verified: {} input(s) and {} claims file(s) unchanged, {} run(s) and {} claim(s) recomputed with identical results",
+                    self.certificate, self.inputs, self.claim_files, self.runs, self.claims
+                )
+            }
         } else {
             writeln!(
                 out,

@@ -339,6 +339,13 @@ fn certificates_seal_claims_and_verify_names_their_drift() {
     assert!(cert["certificate"]["seal"]["claims"].is_string());
     let verified = gapcert_in(dir.path(), &["verify", "cert.json"]);
     assert_eq!(verified.status.code(), Some(0), "{}", stdout(&verified));
+    // What was checked includes the claims file and the claim.
+    assert!(
+        stdout(&verified).contains("1 input(s) and 1 claims file(s) unchanged")
+            && stdout(&verified).contains("and 1 claim(s) recomputed"),
+        "{}",
+        stdout(&verified)
+    );
     // The claims file is edited: a different value.
     std::fs::write(
         dir.path().join("claims.csv"),
