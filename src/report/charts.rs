@@ -9,6 +9,8 @@
 
 use std::io::{self, Write};
 
+use plotters::coord::types::RangedCoordf64;
+use plotters::coord::Shift;
 use plotters::element::DashedPathElement;
 use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, Pos, VPos};
@@ -345,18 +347,12 @@ fn finite_rate(value: f64) -> f64 {
 /// the x axis labelled by `x_label` and described by `x_desc`, no y labels, and zebra
 /// stripes for the eye to follow a row across (row 0 at the top).
 fn row_chart<'a, DB: DrawingBackend>(
-    body: &'a DrawingArea<DB, plotters::coord::Shift>,
+    body: &'a DrawingArea<DB, Shift>,
     x_range: std::ops::Range<f64>,
     rows: usize,
     x_label: &dyn Fn(&f64) -> String,
     x_desc: &str,
-) -> io::Result<
-    ChartContext<
-        'a,
-        DB,
-        Cartesian2d<plotters::coord::types::RangedCoordf64, plotters::coord::types::RangedCoordf64>,
-    >,
-> {
+) -> io::Result<ChartContext<'a, DB, Cartesian2d<RangedCoordf64, RangedCoordf64>>> {
     let (x_min, x_max) = (x_range.start, x_range.end);
     let mut chart = ChartBuilder::on(body)
         .margin_right(INTERVAL_VERDICT_WIDTH)
