@@ -2,11 +2,11 @@
 //!
 //! CSV, TSV, Parquet and Arrow IPC are read by polars; their struct columns are
 //! flattened into one column per field, named by its dotted path as nested JSON keys
-//! are ([`flatten_structs`]). JSON and JSON lines are parsed
-//! with serde_json and assembled into a polars DataFrame here: polars' JSON reader may
-//! turn a value of an unexpected type into null, and a silently vanished value is what
-//! an audit must never allow. Parsing ourselves also gives the exact record of a
-//! truncated or malformed line.
+//! are ([`flatten_structs`]). JSON and JSON lines are parsed with serde_json and
+//! assembled into a polars DataFrame here: polars' JSON reader may turn a value of an
+//! unexpected type into null, and a silently vanished value is what an audit must never
+//! allow. Parsing ourselves also gives the exact record of a truncated or malformed
+//! line.
 
 use std::borrow::Cow;
 use std::io::Cursor;
@@ -304,7 +304,7 @@ pub fn flatten_structs(df: DataFrame) -> PolarsResult<DataFrame> {
     }
     let mut names = std::collections::HashSet::new();
     if let Some(twice) = columns.iter().find(|column| !names.insert(column.name())) {
-        polars_bail!(Duplicate: "two columns are named `{}` once struct fields are named by their dotted paths: a column of that name and a field of a struct column", twice.name());
+        polars_bail!(Duplicate: "two columns are named `{}` once the fields of struct columns are named by their dotted paths; rename one", twice.name());
     }
     DataFrame::new(height, columns)
 }
