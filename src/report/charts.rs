@@ -37,6 +37,8 @@ pub const TRAIN_COLOR: RGBColor = RGBColor(0x6a, 0x1b, 0x8a);
 const GRID_COLOR: RGBColor = RGBColor(0xdd, 0xdd, 0xdd);
 const STRIPE_COLOR: RGBColor = RGBColor(0xf3, 0xf4, 0xf6);
 const TEXT_COLOR: RGBColor = RGBColor(0x22, 0x22, 0x22);
+/// The outline of the legend boxes.
+const LEGEND_BORDER: RGBColor = RGBColor(0x99, 0x99, 0x99);
 
 /// Colors of the theory curves, in order; each curve also gets its own dash pattern.
 pub const CURVE_COLORS: [RGBColor; 10] = [
@@ -793,7 +795,7 @@ pub fn wear_chart_svg(entry: &SplitEntry) -> io::Result<String> {
             .margin(8)
             .label_font(text_style(13, TEXT_COLOR))
             .background_style(WHITE.mix(0.9))
-            .border_style(RGBColor(0x99, 0x99, 0x99))
+            .border_style(LEGEND_BORDER)
             .draw()
             .map_err(chart_error)?;
         root.present().map_err(chart_error)?;
@@ -1276,7 +1278,7 @@ fn growth_svg(family: &Family, rows: &[GrowthRow]) -> io::Result<String> {
             .legend_area_size(40)
             .label_font(text_style(15, TEXT_COLOR))
             .background_style(WHITE.mix(0.92))
-            .border_style(RGBColor(0x99, 0x99, 0x99))
+            .border_style(LEGEND_BORDER)
             .draw()
             .map_err(chart_error)?;
         root.present().map_err(chart_error)?;

@@ -61,6 +61,23 @@ fn write(dir: &Path, name: &str, contents: &str) -> PathBuf {
     path
 }
 
+/// The error of auditing `target` with the held-out size mapped to `metrics.val.n` and
+/// the held-out accuracy to `accuracy_path` (the nested logs below).
+fn fails_mapping(dir: &Path, target: &str, accuracy_path: &str) -> String {
+    let accuracy = format!("holdout_accuracy={accuracy_path}");
+    fails(
+        dir,
+        &[
+            "audit",
+            target,
+            "--map",
+            &accuracy,
+            "--map",
+            "holdout_n=metrics.val.n",
+        ],
+    )
+}
+
 fn run_named<'a>(doc: &'a Value, name: &str) -> &'a Value {
     doc["runs"]
         .as_array()
@@ -112,47 +129,17 @@ fn dotted_paths_reach_into_nested_json() {
     assert_eq!(a["candidates"], 2);
 
     // A path that lands on an object names it and its fields.
-    let err = fails(
-        dir.path(),
-        &[
-            "audit",
-            "sweep",
-            "--map",
-            "holdout_accuracy=metrics.val",
-            "--map",
-            "holdout_n=metrics.val.n",
-        ],
-    );
+    let err = fails_mapping(dir.path(), "sweep", "metrics.val");
     assert!(err.contains("`metrics.val` is an object"), "{err}");
     assert!(err.contains("metrics.val.acc"), "{err}");
     // A path that lands on an array says so, with the file and row.
-    let err = fails(
-        dir.path(),
-        &[
-            "audit",
-            "sweep",
-            "--map",
-            "holdout_accuracy=metrics.val.hist",
-            "--map",
-            "holdout_n=metrics.val.n",
-        ],
-    );
+    let err = fails_mapping(dir.path(), "sweep", "metrics.val.hist");
     assert!(
         err.contains("metrics.json:1") && err.contains("JSON list"),
         "{err}"
     );
     // An absent path lists the file's columns, dotted.
-    let err = fails(
-        dir.path(),
-        &[
-            "audit",
-            "sweep",
-            "--map",
-            "holdout_accuracy=metrics.test.acc",
-            "--map",
-            "holdout_n=metrics.val.n",
-        ],
-    );
+    let err = fails_mapping(dir.path(), "sweep", "metrics.test.acc");
     assert!(
         err.contains("no column `metrics.test.acc`") && err.contains("metrics.val.acc"),
         "{err}"
@@ -207,33 +194,13 @@ fn dotted_paths_reach_into_parquet_and_arrow_struct_columns() {
         assert_eq!(run["holdout_n"], 4000, "{file}");
         assert_eq!(run["holdout_misclassified"], 240, "{file}");
         // A path that stops at a struct names it and its fields, as for JSON objects.
-        let err = fails(
-            dir.path(),
-            &[
-                "audit",
-                file,
-                "--map",
-                "holdout_accuracy=metrics.val",
-                "--map",
-                "holdout_n=metrics.val.n",
-            ],
-        );
+        let err = fails_mapping(dir.path(), file, "metrics.val");
         assert!(
             err.contains("`metrics.val` is an object") && err.contains("metrics.val.acc"),
             "{file}: {err}"
         );
         // An absent path lists the dotted columns and the closest one.
-        let err = fails(
-            dir.path(),
-            &[
-                "audit",
-                file,
-                "--map",
-                "holdout_accuracy=metrics.val.ac",
-                "--map",
-                "holdout_n=metrics.val.n",
-            ],
-        );
+        let err = fails_mapping(dir.path(), file, "metrics.val.ac");
         assert!(
             err.contains("did you mean `metrics.val.acc`?"),
             "{file}: {err}"
