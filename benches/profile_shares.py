@@ -20,7 +20,7 @@ GROUPS = [
      r"gapcert::ingest::|chrono::|dec2flt|str>::trim|AuditScope::observe|FromStr"),
     ("formatting (JSON lines, numbers)", r"zmij|itoa|gapcert::report::|serde_json"),
     ("allocation and copying", r"malloc|free|_int_|realloc|memmove|memcpy|memset|unlink_chunk|cfree"),
-    ("audit bookkeeping (verdicts, findings, caches)", r"gapcert::audit::|hashbrown|foldhash|gapcert::pipeline"),
+    ("audit bookkeeping (verdicts, findings, caches)", r"gapcert::audit::|hashbrown|foldhash|gapcert::engine"),
 ]
 
 shares = {name: 0.0 for name, _ in GROUPS}

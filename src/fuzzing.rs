@@ -61,18 +61,19 @@ fn stream_matches(
     audit_settings: &AuditSettings,
     doc: &report::AuditDocument,
 ) {
-    let limits = crate::pipeline::StreamLimits {
+    let limits = crate::engine::StreamLimits {
         batch_rows: 3,
         hold_runs: 0,
     };
-    let prepared = crate::pipeline::prepare(sources, ingest_settings, limits, &|_, _| {})
+    let prepared = crate::engine::prepare(sources, &[], ingest_settings, limits, &|_, _| {})
         .expect("the in-memory audit accepted these logs");
     let mut streamed = Vec::new();
     let summary = prepared
-        .audit(audit_settings, false, &mut |runs| {
-            report::flat::write_ndjson(runs, &mut streamed)
+        .stream(audit_settings, false, &|runs| runs, &mut |runs| {
+            report::flat::write_ndjson(&runs, &mut streamed)
         })
-        .expect("writing to memory");
+        .expect("writing to memory")
+        .summary;
     let mut expected = Vec::new();
     report::flat::write_ndjson(&doc.runs, &mut expected).expect("writing to memory");
     assert!(streamed == expected, "streamed JSON lines differ");

@@ -150,7 +150,7 @@ pub fn set_aside_copies_in_batches(batches: &mut [Vec<RunInput>]) -> usize {
     copies.len()
 }
 
-/// A run's identity in a stream too long to hold (more runs than the pipeline keeps
+/// A run's identity in a stream too long to hold (more runs than the engine keeps
 /// in memory): hashes of its identifier and of its canonical fields, and where it was
 /// read. 128-bit hashes make a false match about as likely as 10⁻²⁵ for ten million
 /// runs; runs with equal keys are treated as copies without comparing the fields.

@@ -160,70 +160,12 @@ impl AuditScope {
     }
 }
 
-/// δ after the family-wise (Bonferroni) division, when asked for.
-pub fn familywise_delta(inputs: &[RunInput], settings: &AuditSettings) -> f64 {
-    AuditScope::of(inputs).delta(settings)
-}
-
-/// K per run: max(candidates, runs sharing the run's held-out split).
-pub fn compared_counts(inputs: &[RunInput], settings: &AuditSettings) -> Vec<u64> {
-    let scope = AuditScope::of(inputs);
-    inputs.iter().map(|r| scope.compared(r, settings)).collect()
-}
-
-/// Audits every run (in parallel; the result order is the input order).
+/// Audits every run (in parallel; the result order is the input order): the
+/// mathematics of one audit without reading or reporting (the engine,
+/// [`crate::engine`], adds those).
 pub fn audit_runs(inputs: &[RunInput], settings: &AuditSettings) -> Vec<RunResult> {
-    audit_runs_owned(inputs.to_vec(), settings)
-}
-
-/// [`audit_runs`] for callers that no longer need the inputs: strings are moved, not
-/// copied.
-pub fn audit_runs_owned(inputs: Vec<RunInput>, settings: &AuditSettings) -> Vec<RunResult> {
-    let scope = AuditScope::of(&inputs);
-    Auditor::new(&scope, settings).audit(inputs)
-}
-
-/// [`audit_runs_owned`], after checking that the settings fit the runs
-/// ([`AuditScope::check`]); `extra_claims` claims of claims files count for
-/// `--familywise`. Returns the results and δ after the family-wise division.
-pub fn audit_runs_checked(
-    inputs: Vec<RunInput>,
-    extra_claims: u64,
-    settings: &AuditSettings,
-) -> Result<(Vec<RunResult>, f64), Error> {
-    let mut scope = AuditScope::of(&inputs);
-    scope.add_claims(extra_claims);
-    scope.check(settings)?;
-    let results = Auditor::new(&scope, settings).audit(inputs);
-    Ok((results, scope.delta(settings)))
-}
-
-/// [`audit_runs_checked`] in batches, stopping with [`Error::Interrupted`] soon after
-/// `cancel` is raised (a Ctrl-C in a notebook during a long audit).
-pub fn audit_runs_cancellable(
-    inputs: Vec<RunInput>,
-    extra_claims: u64,
-    settings: &AuditSettings,
-    cancel: &crate::error::Cancel,
-) -> Result<(Vec<RunResult>, f64), Error> {
-    const BATCH: usize = 1 << 16;
-    let mut scope = AuditScope::of(&inputs);
-    scope.add_claims(extra_claims);
-    scope.check(settings)?;
-    let auditor = Auditor::new(&scope, settings);
-    let mut results = Vec::with_capacity(inputs.len());
-    let mut inputs = inputs.into_iter();
-    loop {
-        if cancel.is_cancelled() {
-            return Err(Error::Interrupted);
-        }
-        let batch: Vec<RunInput> = inputs.by_ref().take(BATCH).collect();
-        if batch.is_empty() {
-            break;
-        }
-        results.extend(auditor.audit(batch));
-    }
-    Ok((results, scope.delta(settings)))
+    let scope = AuditScope::of(inputs);
+    Auditor::new(&scope, settings).audit(inputs.to_vec())
 }
 
 /// Audits batches of runs against one [`AuditScope`]. The solutions that many runs
@@ -336,14 +278,4 @@ fn lock<T>(mutex: &Mutex<T>) -> std::sync::MutexGuard<'_, T> {
     mutex
         .lock()
         .unwrap_or_else(|poisoned| poisoned.into_inner())
-}
-
-/// Counts verdicts and applies the gate.
-pub fn summarize(results: &[RunResult], settings: &AuditSettings) -> Summary {
-    let mut summary = Summary::default();
-    for result in results {
-        summary.count(result, &settings.gate_allow);
-    }
-    summary.apply_gate(settings.gate);
-    summary
 }

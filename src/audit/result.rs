@@ -89,12 +89,6 @@ pub struct RunResult {
     pub candidates_logged: u64,
 }
 
-impl RunResult {
-    pub fn has_finding(&self, code: FindingCode) -> bool {
-        self.findings.iter().any(|f| f.code == code)
-    }
-}
-
 /// The order reports list runs in, worst first: refuted, unproven, certified, no
 /// claim; within a verdict, the largest excess of the upper bound over the claim
 /// first; ties by run name and source, so that every way of selecting the worst runs

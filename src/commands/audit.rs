@@ -4,8 +4,8 @@ use std::io::{self, IsTerminal, Write};
 use std::path::{Path, PathBuf};
 
 use gapcert::audit::{GateResult, RunResult};
+use gapcert::engine::{PreparedAudit, StreamLimits};
 use gapcert::ingest::{Discovery, FileIdentity, SkippedFile, SkippedRow};
-use gapcert::pipeline::StreamLimits;
 use gapcert::report::text::printable;
 use gapcert::report::{self, AuditDocument, OutputFormat, Presentation};
 use gapcert::Error;
@@ -72,18 +72,40 @@ pub fn run(spec: &SourceSpec, flags: &AuditFlags, terminal: Terminal) -> Result<
         .as_deref()
         .map(claims_output_format)
         .transpose()?;
-    // Claims need the runs they name: an audit with claims (the demo has a release
-    // note) is held in memory.
-    let has_claims = !flags.claims.is_empty() || matches!(spec, Source::Demo);
-    let only_this_output = flags.html.is_none() && flags.certificate.is_none() && !has_claims;
-    let gate = if request.format.streams() && only_this_output {
-        run_streaming(&spec, flags, &request, terminal)?
-    } else if request.format.shows_a_selection() && only_this_output {
-        run_keeping_worst(&spec, flags, &request, terminal)?
+    let progress = Progress::start(terminal, "reading logs");
+    let prepared = prepare_checked(&spec, &request, terminal, &progress)?;
+    // One audit, one sink: the runs are kept only when an output needs them all.
+    let format = request.format;
+    let only_this_output = flags.html.is_none() && flags.certificate.is_none();
+    let audited = if format.streams() && only_this_output {
+        progress.auditing(prepared.runs());
+        let started = std::time::Instant::now();
+        let streamed = stream_runs(prepared, flags, &request, terminal, &progress);
+        gapcert::timing::phase("audit + write", started);
+        streamed
+    } else if format.shows_a_selection() && only_this_output {
+        let keep = request
+            .presentation
+            .top
+            .unwrap_or(gapcert::report::text::DEFAULT_SHOWN);
+        prepared
+            .keep_worst(&request.audit, keep, &request.presentation.only)
+            .map(|doc| (doc, false))
     } else {
-        run_in_memory(&spec, flags, &request, claims_format, terminal)?
+        prepared.collect(&request.audit).map(|doc| (doc, false))
     };
-    Ok(outcome(gate, &spec, &request))
+    progress.finish();
+    let (doc, written) = audited?;
+    write_outputs(
+        &doc,
+        &spec,
+        flags,
+        &request,
+        claims_format,
+        terminal,
+        written,
+    )?;
+    Ok(outcome(doc.summary.gate, &spec, &request))
 }
 
 /// The format of `--claims-output`, from its extension.
@@ -118,34 +140,17 @@ fn outcome(gate: GateResult, spec: &Source, request: &AuditRequest) -> Outcome {
     }
 }
 
-/// An audit held in memory as one document (every format but streamed JSON lines
-/// and CSV).
-fn run_in_memory(
+/// Writes every output asked for from the audit's document: the certificate, the
+/// HTML page, the claims, and the report itself unless it was streamed already.
+fn write_outputs(
+    doc: &AuditDocument,
     spec: &Source,
     flags: &AuditFlags,
     request: &AuditRequest,
     claims_format: Option<OutputFormat>,
     terminal: Terminal,
-) -> Result<GateResult, Error> {
-    let progress = Progress::start(terminal, "reading logs");
-    let result = match spec {
-        Source::Found(discovery) => gapcert::audit_discovered(
-            discovery,
-            &request.audit,
-            &request.ingest,
-            &|done, total| progress.file_read(done, total),
-        ),
-        Source::Demo => gapcert::api::audit_sources_with_claims(
-            &gapcert::demo::sources(),
-            &gapcert::demo::claims_sources(),
-            &request.audit,
-            &request.ingest,
-        ),
-    };
-    progress.finish();
-    let doc = result?;
-    list_skipped(terminal, &doc.skipped_files, &doc.skipped_rows, &doc.notes);
-
+    report_written: bool,
+) -> Result<(), Error> {
     if let Some(path) = &flags.certificate {
         let paths: Vec<String> = match spec {
             Source::Found(discovery) => discovery
@@ -155,26 +160,29 @@ fn run_in_memory(
                 .collect(),
             Source::Demo => Vec::new(),
         };
-        gapcert::certificate::write_certificate(path, &doc, &paths)?;
+        gapcert::certificate::write_certificate(path, doc, &paths)?;
     }
     if let Some(path) = &flags.html {
-        write_file(path, |out| report::html::write_html(&doc, out))?;
+        write_file(path, |out| report::html::write_html(doc, out))?;
     }
     if let (Some(path), Some(format)) = (&flags.claims_output, claims_format) {
         write_file(path, |out| {
             report::claims::write_claims(&doc.claims, format, out)
         })?;
     }
+    if report_written {
+        return Ok(());
+    }
     let started = std::time::Instant::now();
     emit_report(
-        &doc,
+        doc,
         request.format,
         flags.output.as_deref(),
         &request.presentation,
         terminal,
     )?;
     gapcert::timing::phase("write", started);
-    Ok(doc.summary.gate)
+    Ok(())
 }
 
 fn emit_report(
@@ -222,41 +230,6 @@ fn list_skipped(terminal: Terminal, files: &[SkippedFile], rows: &[SkippedRow], 
     }
 }
 
-/// An audit whose only output is a table or Markdown: streamed like JSON lines, but
-/// only the runs the report shows are kept (`--only`, `--top`, at most 1,000 by
-/// default), so a long audit is fast and small in memory.
-fn run_keeping_worst(
-    spec: &Source,
-    flags: &AuditFlags,
-    request: &AuditRequest,
-    terminal: Terminal,
-) -> Result<GateResult, Error> {
-    let progress = Progress::start(terminal, "reading logs");
-    let prepared = prepare_checked(spec, request, terminal, &progress)?;
-    let keep = request
-        .presentation
-        .top
-        .unwrap_or(gapcert::report::text::DEFAULT_SHOWN);
-    let doc = prepared
-        .audit_keeping_worst(
-            &request.audit,
-            &request.ingest,
-            keep,
-            &request.presentation.only,
-        )
-        .map_err(|error| Error::Io(error.to_string()));
-    progress.finish();
-    let doc = doc?;
-    emit_report(
-        &doc,
-        request.format,
-        flags.output.as_deref(),
-        &request.presentation,
-        terminal,
-    )?;
-    Ok(doc.summary.gate)
-}
-
 /// The first pass of a streamed audit over the logs of `spec`, the check of the
 /// settings against the runs, and under `-v` what was skipped; on an error the
 /// progress display is closed.
@@ -265,21 +238,22 @@ fn prepare_checked(
     request: &AuditRequest,
     terminal: Terminal,
     progress: &Progress,
-) -> Result<gapcert::pipeline::PreparedAudit<'static>, Error> {
+) -> Result<PreparedAudit<'static>, Error> {
     let report_file = |done, total| progress.file_read(done, total);
     let limits = StreamLimits::default();
     let prepared = match spec {
         Source::Found(discovery) => {
-            gapcert::pipeline::prepare_discovered(discovery, &request.ingest, limits, &report_file)
+            gapcert::engine::prepare_discovered(discovery, &request.ingest, limits, &report_file)
         }
-        Source::Demo => gapcert::pipeline::prepare(
+        Source::Demo => gapcert::engine::prepare(
             &gapcert::demo::sources(),
+            &gapcert::demo::claims_sources(),
             &request.ingest,
             limits,
             &report_file,
         ),
     }
-    .and_then(|prepared| prepared.check(&request.audit).map(|_| prepared));
+    .and_then(|mut prepared| prepared.check(&request.audit).map(|_| prepared));
     let prepared = match prepared {
         Ok(prepared) => prepared,
         Err(error) => {
@@ -296,22 +270,21 @@ fn prepare_checked(
     Ok(prepared)
 }
 
-/// An audit whose only output is JSON lines or CSV: streamed batch by batch
-/// ([`gapcert::pipeline`]), so memory stays bounded and the output is the same as the
-/// in-memory audit's.
-fn run_streaming(
-    spec: &Source,
+/// An audit whose only output is JSON lines or CSV: the runs are written batch by
+/// batch as they are audited ([`gapcert::engine`]), so memory stays bounded; the
+/// document returned has the summary, claims and splits but no runs. Returns it with
+/// `true` (the report is written).
+fn stream_runs(
+    prepared: PreparedAudit<'static>,
     flags: &AuditFlags,
     request: &AuditRequest,
     terminal: Terminal,
-) -> Result<GateResult, Error> {
+    progress: &Progress,
+) -> Result<(AuditDocument, bool), Error> {
     let format = request.format;
-    let progress = Progress::start(terminal, "reading logs");
-    let prepared = prepare_checked(spec, request, terminal, &progress)?;
-    progress.auditing(prepared.runs());
-    let started = std::time::Instant::now();
-    let mut summary = None;
-    let stream = |out: &mut dyn Write| -> io::Result<()> {
+    let mut doc = None;
+    let mut prepared = Some(prepared);
+    let mut stream = |out: &mut dyn Write| -> io::Result<()> {
         if format == OutputFormat::Csv {
             let kept: Vec<&str> = request.ingest.keep.iter().map(String::as_str).collect();
             report::flat::write_csv_header(&kept, out)?;
@@ -344,19 +317,24 @@ fn run_streaming(
                 other => other,
             }
         };
-        summary = Some(prepared.audit_through(&request.audit, false, &format_batch, &mut sink)?);
+        let Some(prepared) = prepared.take() else {
+            return Ok(());
+        };
+        doc = Some(
+            prepared
+                .stream(&request.audit, false, &format_batch, &mut sink)
+                .map_err(io::Error::other)?,
+        );
         Ok(())
     };
-    let written = match &flags.output {
-        Some(path) => write_file(path, stream),
+    match &flags.output {
+        Some(path) => write_file(path, stream)?,
         None if terminal.quiet => {
-            stream(&mut io::sink()).map_err(|error| Error::Io(error.to_string()))
+            stream(&mut io::sink()).map_err(|error| Error::Io(error.to_string()))?
         }
-        None => write_stdout(stream),
+        None => write_stdout(stream)?,
     };
-    progress.finish();
-    written?;
-    gapcert::timing::phase("audit + write", started);
-    // Without a summary the audit did not finish: that cannot pass.
-    Ok(summary.map_or(GateResult::Fail, |s| s.gate))
+    // Without a document the audit did not finish: that cannot pass.
+    doc.map(|doc| (doc, true))
+        .ok_or_else(|| Error::Io("the audit did not finish".into()))
 }

@@ -42,22 +42,6 @@ pub struct SkippedFile {
     pub reason: String,
 }
 
-/// Everything ingest produced.
-#[derive(Clone, Debug, Default)]
-pub struct IngestOutcome {
-    pub runs: Vec<RunInput>,
-    pub inputs: Vec<InputFile>,
-    pub skipped_rows: Vec<SkippedRow>,
-    /// Logs that `--lenient` could not use at all, and non-log files found in folders.
-    pub skipped_files: Vec<SkippedFile>,
-    /// Data rows of the logs that `--lenient` skipped whole (read, not audited).
-    pub rows_in_skipped_files: usize,
-    /// `file: note` lines worth saying under `-v`.
-    pub notes: Vec<String>,
-    /// Runs set aside as copies: of identical files, and identical runs read twice.
-    pub copies_set_aside: usize,
-}
-
 /// Where a log's bytes come from.
 #[derive(Clone, Debug)]
 pub enum LogSource<'a> {
@@ -71,36 +55,6 @@ pub enum LogSource<'a> {
 /// Told (files read so far, files in all) as each file is read, for a progress bar.
 pub type FileProgress<'a> = &'a (dyn Fn(usize, usize) + Sync);
 
-/// Reads the logs found at `paths` (files or folders).
-pub fn read_paths(paths: &[PathBuf], settings: &IngestSettings) -> Result<IngestOutcome, Error> {
-    read_paths_reporting(paths, settings, &|_, _| {})
-}
-
-/// [`read_paths`], reporting each file read to `progress`.
-pub fn read_paths_reporting(
-    paths: &[PathBuf],
-    settings: &IngestSettings,
-    progress: FileProgress<'_>,
-) -> Result<IngestOutcome, Error> {
-    read_discovered(&discover(paths)?, settings, progress)
-}
-
-/// Reads the logs `discovery` found, reporting each file read to `progress`.
-pub fn read_discovered(
-    discovery: &Discovery,
-    settings: &IngestSettings,
-    progress: FileProgress<'_>,
-) -> Result<IngestOutcome, Error> {
-    let sources: Vec<LogSource> = discovery
-        .logs
-        .iter()
-        .map(|log| LogSource::Path(log.path.clone(), log.format))
-        .collect();
-    let mut outcome = read_sources_reporting(&sources, settings, progress)?;
-    outcome.skipped_files.extend(not_log_files(discovery));
-    Ok(outcome)
-}
-
 /// The files in the given folders that are not logs, as skipped files.
 pub fn not_log_files(discovery: &Discovery) -> Vec<SkippedFile> {
     discovery
@@ -111,63 +65,6 @@ pub fn not_log_files(discovery: &Discovery) -> Vec<SkippedFile> {
             reason: "not a log file type".to_string(),
         })
         .collect()
-}
-
-/// Reads the given sources; files are read in parallel and their results kept in order.
-pub fn read_sources(
-    sources: &[LogSource],
-    settings: &IngestSettings,
-) -> Result<IngestOutcome, Error> {
-    read_sources_reporting(sources, settings, &|_, _| {})
-}
-
-/// [`read_sources`], reporting each file read to `progress`.
-pub fn read_sources_reporting(
-    sources: &[LogSource],
-    settings: &IngestSettings,
-    progress: FileProgress<'_>,
-) -> Result<IngestOutcome, Error> {
-    columns::check_column_map(&settings.column_map).map_err(Error::Usage)?;
-    let done = std::sync::atomic::AtomicUsize::new(0);
-    // Each file's table is dropped as soon as its runs are read: a folder of 200,000
-    // small logs must not hold 200,000 tables.
-    let per_file: Vec<(LogSummary, Vec<RunInput>, FileReport)> = map_files(sources, |source| {
-        if settings.cancel.is_cancelled() {
-            return (LogSummary::default(), Vec::new(), FileReport::default());
-        }
-        let settings = settings.for_file(&source_label(source));
-        let settings = settings.as_ref();
-        let log = OpenedLog::open(source, settings);
-        let mut runs = Vec::new();
-        // In batches, so that a Ctrl-C stops a long file soon.
-        let report = log.validate(settings, 1 << 16, &mut |batch| {
-            runs.extend(batch);
-            !settings.cancel.is_cancelled()
-        });
-        let finished = done.fetch_add(1, std::sync::atomic::Ordering::Relaxed) + 1;
-        progress(finished, sources.len());
-        (log.summary(), runs, report)
-    });
-
-    if settings.cancel.is_cancelled() {
-        return Err(Error::Interrupted);
-    }
-    let mut outcome = IngestOutcome::default();
-    let mut collected = Collected::default();
-    for (log, runs, report) in per_file {
-        if collected.add(&log, report, settings.lenient) {
-            outcome.runs.extend(runs);
-        }
-    }
-    collected.finish(sources, outcome.runs.len(), &settings.keep)?;
-    outcome.inputs = collected.inputs;
-    outcome.skipped_rows = collected.skipped_rows;
-    outcome.skipped_files = collected.skipped_files;
-    outcome.rows_in_skipped_files = collected.rows_in_skipped_files;
-    outcome.notes = collected.notes;
-    outcome.copies_set_aside = collected.copies_set_aside;
-    collected.file_copies.name_copies(&mut outcome.runs);
-    Ok(outcome)
 }
 
 /// Maps `work` over the files `items` on plain threads (one per core), keeping their

@@ -425,8 +425,9 @@ fn no_file_of_src_imports_a_file_that_imports_it_back() {
             .is_some_and(|t| t.contains(&find(to)))
     };
     assert!(has("src/audit/per_run.rs", "src/run.rs"));
-    assert!(has("src/api.rs", "src/audit/mod.rs"));
-    assert!(has("src/commands/audit.rs", "src/pipeline.rs"));
+    assert!(has("src/api.rs", "src/engine.rs"));
+    assert!(has("src/engine.rs", "src/audit/mod.rs"));
+    assert!(has("src/commands/audit.rs", "src/engine.rs"));
     assert!(
         has("src/audit/result.rs", "src/audit/settings.rs"),
         "re-exports are followed"

@@ -1,4 +1,4 @@
-//! The streaming audit (src/pipeline.rs: two passes, batch by batch) gives exactly
+//! The audit engine (src/engine.rs: two passes, batch by batch) gives exactly
 //! the results of the in-memory audit, whatever the batch size and whether the first
 //! pass keeps the runs; and the parallel audit gives bit-identical results to a
 //! single-threaded one. Results are compared as serialised JSON, whose floats round
@@ -8,8 +8,8 @@ use crate::common;
 use std::path::{Path, PathBuf};
 
 use gapcert::audit::{AuditSettings, RunResult, Summary};
+use gapcert::engine::{self, StreamLimits};
 use gapcert::ingest::IngestSettings;
-use gapcert::pipeline::{self, StreamLimits};
 use polars::prelude::*;
 use rand::{Rng, SeedableRng};
 
@@ -24,18 +24,18 @@ fn streamed(
     limits: StreamLimits,
     messages: bool,
 ) -> (Vec<RunResult>, Summary) {
-    let prepared = pipeline::prepare_paths(paths, ingest, limits, &|_, _| {}).expect("valid logs");
+    let prepared = engine::prepare_paths(paths, ingest, limits, &|_, _| {}).expect("valid logs");
     let mut runs = Vec::new();
     let mut batches = 0;
-    let summary = prepared
-        .audit(audit, messages, &mut |batch| {
+    let doc = prepared
+        .stream(audit, messages, &|batch| batch, &mut |batch| {
             batches += 1;
             assert!(!batch.is_empty() || batches == 1, "empty batch written");
-            runs.extend_from_slice(batch);
+            runs.extend(batch);
             Ok(())
         })
         .expect("audit");
-    (runs, summary)
+    (runs, doc.summary)
 }
 
 fn json(runs: &[RunResult]) -> String {
@@ -221,8 +221,7 @@ fn streamed_lenient_audit_skips_the_same_rows_and_files() {
     let doc = gapcert::audit_paths(&paths, &AuditSettings::default(), &ingest).expect("lenient");
     assert!(!doc.skipped_rows.is_empty() && !doc.skipped_files.is_empty());
     for limit in limits() {
-        let prepared =
-            pipeline::prepare_paths(&paths, &ingest, limit, &|_, _| {}).expect("lenient");
+        let prepared = engine::prepare_paths(&paths, &ingest, limit, &|_, _| {}).expect("lenient");
         assert_eq!(prepared.skipped_rows, doc.skipped_rows, "{limit:?}");
         assert_eq!(prepared.skipped_files, doc.skipped_files, "{limit:?}");
         assert_eq!(prepared.inputs, doc.inputs, "{limit:?}");
@@ -237,7 +236,7 @@ fn streamed_bad_input_fails_before_any_batch_is_audited() {
         fixture("bad/several_bad_rows.csv"),
     ];
     for limit in limits() {
-        match pipeline::prepare_paths(&paths, &IngestSettings::default(), limit, &|_, _| {}) {
+        match engine::prepare_paths(&paths, &IngestSettings::default(), limit, &|_, _| {}) {
             Ok(_) => panic!("bad rows accepted with {limit:?}"),
             Err(error) => {
                 let text = error.to_string();
@@ -403,4 +402,72 @@ fn binary_text_column_reads_cell_by_cell() {
         &AuditSettings::default(),
         &IngestSettings::default(),
     );
+}
+
+/// Claims reach every sink: streamed in any batch size, kept or read again, kept
+/// worst or collected, the claims, their summary counts and the split entries equal
+/// those of the collected audit (before the one engine, a streamed audit silently
+/// dropped the claims).
+#[test]
+fn every_sink_decides_the_same_claims_and_splits() {
+    let paths = [fixture("demo/runs.csv")];
+    let ingest = IngestSettings {
+        claims_files: vec![fixture("demo/claims.csv")],
+        ..IngestSettings::default()
+    };
+    for audit in [
+        AuditSettings::default(),
+        AuditSettings {
+            familywise: true,
+            ..AuditSettings::default()
+        },
+    ] {
+        let doc = gapcert::audit_paths(&paths, &audit, &ingest).expect("valid logs");
+        assert!(doc.claims.len() >= 5, "the demo's claims were read");
+        assert!(doc.summary.claims == doc.claims.len());
+        for limit in limits() {
+            let streamed = engine::prepare_paths(&paths, &ingest, limit, &|_, _| {})
+                .expect("valid logs")
+                .stream(&audit, false, &|batch| batch.len(), &mut |_| Ok(()))
+                .expect("audit");
+            assert_eq!(streamed.claims, doc.claims, "{limit:?}");
+            assert_eq!(streamed.splits, doc.splits, "{limit:?}");
+            assert_eq!(streamed.summary, doc.summary, "{limit:?}");
+            assert!(streamed.runs.is_empty());
+            let worst = engine::prepare_paths(&paths, &ingest, limit, &|_, _| {})
+                .expect("valid logs")
+                .keep_worst(&audit, 3, &[])
+                .expect("audit");
+            assert_eq!(worst.claims, doc.claims, "{limit:?}");
+            assert_eq!(worst.splits, doc.splits, "{limit:?}");
+            assert_eq!(worst.summary, doc.summary, "{limit:?}");
+            assert_eq!(worst.runs.len(), 3);
+        }
+    }
+}
+
+/// A claim that names no run fails the audit at the check, before the second pass
+/// hands any run to a sink, whether the runs were held or are read again.
+#[test]
+fn a_bad_claim_fails_before_any_run_is_written() {
+    let folder = tempfile::tempdir().expect("temporary folder");
+    let claims = folder.path().join("claims.csv");
+    std::fs::write(
+        &claims,
+        "claim,kind,run,value\nc1,accuracy,no-such-run,0.9\n",
+    )
+    .expect("write claims");
+    let ingest = IngestSettings {
+        claims_files: vec![claims],
+        ..IngestSettings::default()
+    };
+    for limit in limits() {
+        let mut prepared =
+            engine::prepare_paths(&[fixture("demo/runs.csv")], &ingest, limit, &|_, _| {})
+                .expect("valid logs");
+        let error = prepared
+            .check(&AuditSettings::default())
+            .expect_err("a claim on no run");
+        assert!(error.to_string().contains("no-such-run"), "{error}");
+    }
 }
