@@ -1,6 +1,6 @@
 #!/usr/bin/env python3
 """Regenerate fixtures/reference/special.csv: high-precision reference values
-for the special functions of src/theory/special.rs and src/theory/beta.rs.
+for the special functions of src/theory/special.rs and src/theory/beta/.
 
 Every value is computed here from the mathematical definition with mpmath at
 50 significant digits (mp.dps = 50), independently of gapcert's algorithms (no
@@ -60,7 +60,7 @@ left empty). Functions, definitions and sources:
       of a small upper tail (it returns -1.4e-54 for a = 4, b = 999997,
       x = 7e-4, whose upper tail is 4.4e-297). The two tails must sum to 1
       within 1e-45.
-  The points cover each region of the method table in beta.rs (with lambda =
+  The points cover each region of the method table in beta/evaluation.rs (with lambda =
   (a+b)y - b and the swap to the tail below the mean): a = 1 or b = 1; b0 < 40
   an integer; b0 < 40 not an integer with b0 x0 <= 0.7 and > 0.7; b0 >= 40
   with min(a0, b0) <= 100; min(a0, b0) > 100 with lambda > 0.03 min(a0, b0)
@@ -252,7 +252,7 @@ def snap(x):
 
 
 def region(a, b, x):
-    """The row of the method table in beta.rs's module docs that (a, b, x) falls in."""
+    """The row of the method table in beta/evaluation.rs's module docs that (a, b, x) falls in."""
     if a == 1 or b == 1:
         return "a = 1 or b = 1 (closed form)"
     fa, fb, fx = Fraction(a), Fraction(b), Fraction(x)

@@ -25,7 +25,7 @@
 //! upper bound with k + 1 < 40, the tail `P[Bin(n,p) ≤ k]` is the finite sum of
 //! k + 1 binomial terms, summed from the largest term downwards with the
 //! top term taken in log space (`ln(1−p)` via log1p, prefactor via the
-//! Stirling-difference form); see `beta.rs`, finite case of BUP.
+//! Stirling-difference form); see `beta/evaluation.rs`, finite case of BUP.
 
 use super::beta::{inverse_incomplete_beta, Tail};
 

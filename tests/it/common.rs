@@ -18,6 +18,23 @@ pub fn binary() -> PathBuf {
         .unwrap_or_else(|| PathBuf::from(env!("CARGO_BIN_EXE_gapcert")))
 }
 
+/// Whether the tests run under continuous integration: `CI` set to anything but empty,
+/// `false` or `0` (CI services set `CI=true`).
+pub fn under_ci() -> bool {
+    std::env::var("CI").is_ok_and(|v| !v.is_empty() && v != "false" && v != "0")
+}
+
+/// Reports that a test, or one check of it, cannot run because `reason` (a tool, a
+/// device, a folder) is missing. Under CI that is a failure: the CI image must provide
+/// everything the tests need, and a test that passes without running hides the gap.
+/// Elsewhere it prints a note and returns, and the caller skips what cannot run.
+pub fn cannot_run(reason: &str) {
+    if under_ci() {
+        panic!("this test cannot run: {reason}; CI is set, so that is a failure, not a skip");
+    }
+    eprintln!("SKIPPED (cannot run here): {reason}");
+}
+
 /// Runs gapcert with `args` from the crate root.
 pub fn gapcert(args: &[&str]) -> Output {
     Command::new(binary())

@@ -54,9 +54,14 @@ fn fixtures_and_their_truncations_never_panic() {
 #[test]
 fn saved_fuzz_crashes_stay_fixed() {
     let folder = common::root().join("fuzz/regressions");
-    let Ok(entries) = std::fs::read_dir(&folder) else {
-        return;
+    let entries = match std::fs::read_dir(&folder) {
+        Ok(entries) => entries,
+        Err(error) => {
+            common::cannot_run(&format!("cannot read {}: {error}", folder.display()));
+            return;
+        }
     };
+    let mut replayed = 0;
     for entry in entries {
         let path = entry.unwrap().path();
         let name = path.file_name().unwrap().to_string_lossy().to_string();
@@ -69,6 +74,10 @@ fn saved_fuzz_crashes_stay_fixed() {
             _ => continue,
         };
         gapcert::fuzzing::exercise(&std::fs::read(&path).unwrap(), format);
+        replayed += 1;
+    }
+    if replayed == 0 {
+        common::cannot_run(&format!("no saved fuzz input in {}", folder.display()));
     }
 }
 

@@ -11,7 +11,7 @@ use std::path::{Path, PathBuf};
 use std::process::{Command, Stdio};
 use std::time::{Duration, Instant};
 
-use crate::common::{gapcert_deadline, parse_csv_text, Finished};
+use crate::common::{cannot_run, gapcert_deadline, parse_csv_text, Finished};
 use gapcert::audit::{audit_run, AuditSettings, HoldoutBound, RunContext, RunResult, Verdict};
 use gapcert::ingest::{IngestSettings, LogFormat, LogSource};
 use gapcert::report::escape::escape_markdown;
@@ -646,7 +646,7 @@ fn failing_command_writes_no_output_file_at_all() {
 #[test]
 fn dev_full_as_output_fails_with_a_clear_message() {
     if !Path::new("/dev/full").exists() {
-        eprintln!("skipped: no /dev/full here");
+        cannot_run("no /dev/full here");
         return;
     }
     let dir = tempfile::tempdir().unwrap();
@@ -737,7 +737,7 @@ fn full_tmpfs_fails_cleanly_and_keeps_the_old_file() {
         .stderr(Stdio::null())
         .status();
     if !matches!(mounted, Ok(status) if status.success()) {
-        eprintln!("skipped: cannot mount a tmpfs here (not root, or refused by the sandbox)");
+        cannot_run("cannot mount a tmpfs here (not root, or refused by the sandbox)");
         return;
     }
     let _guard = Mounted(disk.clone());
@@ -1351,7 +1351,7 @@ fn a_fifo_named_like_a_log_does_not_hang_the_audit() {
         .map(|s| s.success())
         .unwrap_or(false);
     if !made {
-        eprintln!("skipped: mkfifo is not available");
+        cannot_run("mkfifo is not available");
         return;
     }
     let finished = gapcert_deadline(

@@ -176,7 +176,7 @@ fn sample_sizes_match_python_brute_force_exactly() {
 
 /// The special functions under the incomplete beta ratio and the growth functions
 /// (DiDonato & Morris 1992, TOMS 18(3); Wichura 1988, AS 241; Mächler 2012), and the
-/// ratio itself on every region of `src/theory/beta.rs`'s table, against mpmath at 50
+/// ratio itself on every region of `src/theory/beta/evaluation.rs`'s table, against mpmath at 50
 /// digits (`scripts/reference_special.py`; `fixtures/reference/special.csv`). The
 /// worst relative error per function is printed, and each must stay below the bound
 /// its documentation states.
