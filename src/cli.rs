@@ -97,6 +97,11 @@ pub struct AuditFlags {
     /// Write the report to FILE (atomically) instead of standard output.
     #[arg(long, short = 'o', value_name = "FILE")]
     pub output: Option<PathBuf>,
+    /// Also write a report to FILE, in the format its extension names (.json,
+    /// .ndjson, .jsonl, .csv, .parquet, .md, .xml for junit, .html for the page);
+    /// repeatable: one audit writes every report, so they cannot disagree.
+    #[arg(long = "report", value_name = "FILE")]
+    pub reports: Vec<PathBuf>,
     /// Also write a verifiable certificate (JSON) to FILE.
     #[arg(long, value_name = "FILE")]
     pub certificate: Option<PathBuf>,

@@ -47,6 +47,11 @@ pub fn run(spec: &SourceSpec, flags: &AuditFlags, terminal: Terminal) -> Result<
             inputs.push((path.as_path(), FileIdentity::of(&metadata)));
         }
     }
+    let reports: Vec<(&Path, ReportFile)> = flags
+        .reports
+        .iter()
+        .map(|path| report_file(path).map(|kind| (path.as_path(), kind)))
+        .collect::<Result<_, _>>()?;
     let outputs: Vec<(&str, &Path)> = [
         ("--output", flags.output.as_deref()),
         ("--certificate", flags.certificate.as_deref()),
@@ -55,6 +60,7 @@ pub fn run(spec: &SourceSpec, flags: &AuditFlags, terminal: Terminal) -> Result<
     ]
     .into_iter()
     .filter_map(|(flag, path)| path.map(|path| (flag, path)))
+    .chain(reports.iter().map(|(path, _)| ("--report", *path)))
     .collect();
     check_outputs(&outputs, &inputs)?;
     let spec = match (&discovery, spec) {
@@ -76,7 +82,8 @@ pub fn run(spec: &SourceSpec, flags: &AuditFlags, terminal: Terminal) -> Result<
     let prepared = prepare_checked(&spec, &request, terminal, &progress)?;
     // One audit, one sink: the runs are kept only when an output needs them all.
     let format = request.format;
-    let only_this_output = flags.html.is_none() && flags.certificate.is_none();
+    let only_this_output =
+        flags.html.is_none() && flags.certificate.is_none() && reports.is_empty();
     let audited = if format.streams() && only_this_output {
         progress.auditing(prepared.runs());
         let started = std::time::Instant::now();
@@ -96,16 +103,46 @@ pub fn run(spec: &SourceSpec, flags: &AuditFlags, terminal: Terminal) -> Result<
     };
     progress.finish();
     let (doc, written) = audited?;
-    write_outputs(
-        &doc,
-        &spec,
-        flags,
-        &request,
+    let outputs = Outputs {
         claims_format,
-        terminal,
-        written,
-    )?;
+        reports: &reports,
+        report_written: written,
+    };
+    write_outputs(&doc, &spec, flags, &request, &outputs, terminal)?;
     Ok(outcome(doc.summary.gate, &spec, &request))
+}
+
+/// What a `--report` file holds: a report format, or the HTML page.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+enum ReportFile {
+    Format(OutputFormat),
+    Html,
+}
+
+/// The content of a `--report` file, from its extension.
+fn report_file(path: &Path) -> Result<ReportFile, Error> {
+    if let Some(format) = super::settings::format_of_extension(path) {
+        return Ok(ReportFile::Format(format));
+    }
+    let extension = path
+        .extension()
+        .and_then(|e| e.to_str())
+        .map(str::to_ascii_lowercase);
+    match extension.as_deref() {
+        Some("html" | "htm") => Ok(ReportFile::Html),
+        _ => Err(Error::Usage(format!(
+            "--report {}: name the file for the report it should hold: .json, .ndjson, .jsonl, .csv, .parquet, .md, .xml (JUnit) or .html (the page)",
+            path.display()
+        ))),
+    }
+}
+
+/// The files an audit writes besides its main report, and whether that was
+/// streamed already.
+struct Outputs<'a> {
+    claims_format: Option<OutputFormat>,
+    reports: &'a [(&'a Path, ReportFile)],
+    report_written: bool,
 }
 
 /// The format of `--claims-output`, from its extension.
@@ -141,15 +178,15 @@ fn outcome(gate: GateResult, spec: &Source, request: &AuditRequest) -> Outcome {
 }
 
 /// Writes every output asked for from the audit's document: the certificate, the
-/// HTML page, the claims, and the report itself unless it was streamed already.
+/// HTML page, the claims, each `--report`, and the report itself unless it was
+/// streamed already.
 fn write_outputs(
     doc: &AuditDocument,
     spec: &Source,
     flags: &AuditFlags,
     request: &AuditRequest,
-    claims_format: Option<OutputFormat>,
+    outputs: &Outputs<'_>,
     terminal: Terminal,
-    report_written: bool,
 ) -> Result<(), Error> {
     if let Some(path) = &flags.certificate {
         let paths: Vec<String> = match spec {
@@ -165,12 +202,23 @@ fn write_outputs(
     if let Some(path) = &flags.html {
         write_file(path, |out| report::html::write_html(doc, out))?;
     }
-    if let (Some(path), Some(format)) = (&flags.claims_output, claims_format) {
+    if let (Some(path), Some(format)) = (&flags.claims_output, outputs.claims_format) {
         write_file(path, |out| {
             report::claims::write_claims(&doc.claims, format, out)
         })?;
     }
-    if report_written {
+    let plain = Presentation {
+        color: false,
+        width: None,
+        ..request.presentation.clone()
+    };
+    for (path, kind) in outputs.reports {
+        write_file(path, |out| match kind {
+            ReportFile::Html => report::html::write_html(doc, out),
+            ReportFile::Format(format) => report::write_report(doc, *format, out, &plain),
+        })?;
+    }
+    if outputs.report_written {
         return Ok(());
     }
     let started = std::time::Instant::now();

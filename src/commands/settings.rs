@@ -84,7 +84,7 @@ fn presentation(flags: &AuditFlags) -> Presentation {
 }
 
 /// The format an output file's extension names, if any.
-fn format_of_extension(path: &std::path::Path) -> Option<OutputFormat> {
+pub fn format_of_extension(path: &std::path::Path) -> Option<OutputFormat> {
     let extension = path.extension()?.to_str()?.to_ascii_lowercase();
     Some(match extension.as_str() {
         "json" => OutputFormat::Json,

@@ -816,3 +816,54 @@ fn streamed_flat_outputs_equal_the_in_memory_ones_byte_for_byte() {
         assert_eq!(streamed, std::fs::read(&whole).unwrap(), "{format}");
     }
 }
+
+/// `--report FILE` (repeatable) writes one more report per file, in the format its
+/// extension names, from the same audit: each is the file `--format X --output FILE`
+/// writes alone (the generation time aside), and the exit code is the gate's.
+#[test]
+fn reports_of_one_audit_equal_the_reports_written_one_by_one() {
+    let dir = tempfile::tempdir().unwrap();
+    let at = |name: &str| dir.path().join(name).to_str().unwrap().to_string();
+    let logs = root().join("fixtures/demo/runs.csv");
+    let claims = root().join("fixtures/demo/claims.csv");
+    let (logs, claims) = (logs.to_str().unwrap(), claims.to_str().unwrap());
+    let names = ["all.json", "all.ndjson", "all.csv", "all.md", "all.xml", "all.html"];
+    let mut args = vec!["audit", logs, "--claims", claims, "--quiet"];
+    let paths: Vec<String> = names.iter().map(|n| at(n)).collect();
+    for path in &paths {
+        args.extend(["--report", path.as_str()]);
+    }
+    let together = gapcert(&args);
+    assert_eq!(together.status.code(), Some(1), "{}", stderr(&together));
+    let masked = |path: &str| {
+        let text = std::fs::read_to_string(path).unwrap();
+        text.lines()
+            .map(|line| match line.find("20") {
+                // Mask the generation time wherever a format writes it.
+                Some(_) if line.contains("generated") || line.contains("Generated") => {
+                    "GENERATED".to_string()
+                }
+                _ => line.to_string(),
+            })
+            .collect::<Vec<_>>()
+            .join("\n")
+    };
+    for (name, path) in names.iter().zip(&paths) {
+        let alone = at(&format!("alone-{name}"));
+        let flag = if name.ends_with(".html") {
+            "--html"
+        } else {
+            "--output"
+        };
+        let output = gapcert(&["audit", logs, "--claims", claims, "--quiet", flag, &alone]);
+        assert_eq!(output.status.code(), Some(1), "{name}: {}", stderr(&output));
+        assert_eq!(masked(path), masked(&alone), "{name}");
+    }
+    // An extension that names no report, and a report over an input, are usage errors.
+    let output = gapcert(&["audit", logs, "--report", &at("out.txt")]);
+    assert_eq!(output.status.code(), Some(2));
+    assert!(stderr(&output).contains("--report"), "{}", stderr(&output));
+    let output = gapcert(&["audit", logs, "--report", logs.replace(".csv", ".csv").as_str()]);
+    assert_eq!(output.status.code(), Some(2));
+    assert!(stderr(&output).contains("is the input"), "{}", stderr(&output));
+}

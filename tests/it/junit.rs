@@ -212,8 +212,39 @@ fn ci_example_gate_script_writes_reports_and_passes_the_exit_status_on() {
     let (_, cases) = cases(&xml);
     assert!(cases.iter().any(|c| c.failed));
     let summary = std::fs::read_to_string(out.join("summary.md")).unwrap();
-    assert!(summary.contains("gapcert audit"), "{summary}");
+    // The summary posted on the pull request says what the gate decided (it once
+    // came from a second audit run with `--gate never` and said "passes").
+    assert!(
+        summary.starts_with("### gapcert audit: the gate **fails**"),
+        "{summary}"
+    );
     assert!(out.join("audit.html").exists() && out.join("audit.cert.json").exists());
+    // Options pass through to the one audit: `--gate never` passes and the summary
+    // says so; `--format` and `--output` add a report of the caller's own.
+    let extra = dir.path().join("extra.json");
+    let output = gate(&[
+        "fixtures/demo/runs.csv",
+        "--claims",
+        "fixtures/demo/claims.csv",
+        "--gate",
+        "never",
+        "--format",
+        "json",
+        "--output",
+        extra.to_str().unwrap(),
+    ]);
+    assert_eq!(output.status.code(), Some(0), "{}", stderr(&output));
+    let summary = std::fs::read_to_string(out.join("summary.md")).unwrap();
+    assert!(
+        summary.starts_with("### gapcert audit: the gate passes"),
+        "{summary}"
+    );
+    let document: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(&extra).unwrap()).unwrap();
+    assert_eq!(document["summary"]["gate"], "pass");
+    // `--gate refuted` passed through: the demo has a refuted claim, so it fails.
+    let output = gate(&["fixtures/demo/runs.csv", "--gate", "refuted"]);
+    assert_eq!(output.status.code(), Some(1), "{}", stderr(&output));
     // Bad input: exit 2, no new summary.
     std::fs::remove_file(out.join("summary.md")).unwrap();
     let output = gate(&["fixtures/demo/runs.csv", "--confidence", "2"]);
