@@ -59,6 +59,19 @@ if [ "$ROWS" -gt 0 ]; then
   printf 'gapcert audit -> replacing the previous output (median of %s): %.3f s, ratio %.2f\n' \
     "$REPEATS" "$replace_median" "$(div "$replace_median" "$read_median")"
   rm -f "$DATA/out.ndjson"
+  # A claims file does not change the memory profile (one engine: the claims are
+  # decided from the runs they name, before the runs stream out). Target: peak
+  # memory with claims within 1.25x of the audit without.
+  printf 'claim,kind,run,value\nc1,accuracy,c0-sweep1-run0,0.9\nc2,error,c0-sweep1-run1,0.05\nc3,accuracy,c0-sweep2-run1*,0.9\n' > "$DATA/claims3.csv"
+  for claims in "" "--claims $DATA/claims3.csv"; do
+    # shellcheck disable=SC2086
+    /usr/bin/time -v "$BIN/gapcert" audit "$DATA/runs-$ROWS.csv" $claims --format ndjson \
+      --output "$DATA/out.ndjson" --quiet 2> "$DATA/time-claims.txt" || true
+    rss_kb=$(grep 'Maximum resident set size' "$DATA/time-claims.txt" | awk '{print $NF}')
+    wall=$(grep 'Elapsed (wall clock)' "$DATA/time-claims.txt" | awk '{print $NF}')
+    printf 'ndjson %s: peak RSS %.0f MB, wall %s\n' "${claims:-without claims}" "$(div "$rss_kb" 1024)" "$wall"
+  done
+  rm -f "$DATA/out.ndjson"
 fi
 
 if [ "$FOLDER_RUNS" -gt 0 ]; then

@@ -117,6 +117,11 @@ pub struct AuditFlags {
     /// model card, one per row, audited against the logs (README: claims).
     #[arg(long = "claims", value_name = "FILE")]
     pub claims: Vec<PathBuf>,
+    /// JSON lines, CSV and Parquet: add each run's explanation (one sentence on its
+    /// verdict); without it they carry codes and numbers only. The JSON document,
+    /// table, Markdown, HTML and JUnit always have the sentences.
+    #[arg(long)]
+    pub explain: bool,
     /// Also write the claims flat to FILE (.ndjson, .csv or .parquet).
     #[arg(long, value_name = "FILE")]
     pub claims_output: Option<PathBuf>,

@@ -581,13 +581,14 @@ impl PreparedAudit<'_> {
         }
         kept.sort_by(order);
         for run in &mut kept {
+            run.explanation = crate::audit::explain::explanation(run);
             crate::audit::explain::fill_messages(run, audit_settings);
         }
         Ok(meta.document(audit_settings, kept, finished))
     }
 
-    /// Audits every run, handing each batch of results (in input order, findings
-    /// with codes only unless `messages`) to `transform` on a thread of its own (say,
+    /// Audits every run, handing each batch of results (in input order; findings
+    /// with codes only and no explanation unless `messages`) to `transform` on a thread of its own (say,
     /// formatting JSON lines) and its output to `sink` on the caller's thread (say,
     /// writing them out). Returns the document without runs: its summary, claims and
     /// splits count every run. An error of `sink` stops the audit and is returned as

@@ -70,12 +70,12 @@ fn stream_matches(
     let mut streamed = Vec::new();
     let summary = prepared
         .stream(audit_settings, false, &|runs| runs, &mut |runs| {
-            report::flat::write_ndjson(&runs, &mut streamed)
+            report::flat::write_ndjson(&runs, false, &mut streamed)
         })
         .expect("writing to memory")
         .summary;
     let mut expected = Vec::new();
-    report::flat::write_ndjson(&doc.runs, &mut expected).expect("writing to memory");
+    report::flat::write_ndjson(&doc.runs, false, &mut expected).expect("writing to memory");
     assert!(streamed == expected, "streamed JSON lines differ");
     assert_eq!(summary, doc.summary, "streamed summary differs");
 }

@@ -336,7 +336,7 @@ pub fn report_frame(args: &Bound<'_, PyTuple>) -> PyResult<Py<PyAny>> {
     let bytes = py
         .detach(|| {
             let frame = match which.as_str() {
-                "runs" => report::flat::runs_frame(&handle.doc.runs),
+                "runs" => report::flat::runs_frame(&handle.doc.runs, true),
                 "claims" => report::claims::claims_frame(&handle.doc.claims),
                 "splits" => report::splits::splits_frame(&handle.doc.splits),
                 other => return Err(format!("no frame {other:?}")),

@@ -196,7 +196,8 @@ impl<'a> Auditor<'a> {
         }
     }
 
-    /// Findings with codes and empty messages (see [`RunContext::messages`]).
+    /// Findings with codes and empty messages (see [`RunContext::messages`]), and no
+    /// explanation: what the flat formats write unless asked for sentences.
     pub fn codes_only(mut self) -> Self {
         self.messages = false;
         self
@@ -266,7 +267,9 @@ impl<'a> Auditor<'a> {
                 };
                 let mut result = audit_run(input, context, settings);
                 result.holdout_needed = holdout_needed(&result);
-                result.explanation = explain::explanation(&result);
+                if self.messages {
+                    result.explanation = explain::explanation(&result);
+                }
                 result
             })
             .collect()

@@ -330,19 +330,20 @@ fn stream_runs(
     progress: &Progress,
 ) -> Result<(AuditDocument, bool), Error> {
     let format = request.format;
+    let explain = request.presentation.explain;
     let mut doc = None;
     let mut prepared = Some(prepared);
     let mut stream = |out: &mut dyn Write| -> io::Result<()> {
         if format == OutputFormat::Csv {
             let kept: Vec<&str> = request.ingest.keep.iter().map(String::as_str).collect();
-            report::flat::write_csv_header(&kept, out)?;
+            report::flat::write_csv_header(&kept, explain, out)?;
         }
         // Lines are formatted on a stage of their own, so this thread only copies
         // bytes out while the next batches are audited and formatted.
         let format_batch = |runs: Vec<RunResult>| {
             let lines = match format {
-                OutputFormat::Csv => report::flat::format_csv_rows(&runs),
-                _ => report::flat::format_ndjson(&runs),
+                OutputFormat::Csv => report::flat::format_csv_rows(&runs, explain),
+                _ => report::flat::format_ndjson(&runs, explain),
             };
             (runs.len(), lines)
         };
@@ -370,7 +371,7 @@ fn stream_runs(
         };
         doc = Some(
             prepared
-                .stream(&request.audit, false, &format_batch, &mut sink)
+                .stream(&request.audit, explain, &format_batch, &mut sink)
                 .map_err(io::Error::other)?,
         );
         Ok(())

@@ -80,6 +80,7 @@ fn presentation(flags: &AuditFlags) -> Presentation {
             })
             .collect(),
         top: flags.top,
+        explain: flags.explain,
     }
 }
 

@@ -38,7 +38,7 @@ pub fn own_report_kind(bytes: &[u8], format: LogFormat) -> Option<&'static str> 
         [
             "error_upper_bound",
             "certifiable_accuracy",
-            "explanation",
+            "holdout_needed",
             "verdict",
         ]
         .iter()

@@ -9,7 +9,8 @@ use serde::Serialize;
 
 use crate::audit::RunResult;
 
-/// The flat column names, in output order.
+/// The flat column names, in output order: every column, [`EXPLANATION`] included;
+/// without `--explain` the flat formats leave that one out (see [`columns`]).
 pub const FLAT_COLUMNS: &[&str] = &[
     "run",
     "source",
@@ -44,6 +45,19 @@ pub const FLAT_COLUMNS: &[&str] = &[
     "logged_at",
     "copies",
 ];
+
+/// The column of the verdict's sentence, written only with `--explain`: it restates
+/// fields a program already has, and at a million runs it is a sixth of the bytes.
+pub const EXPLANATION: &str = "explanation";
+
+/// The flat columns written, in order: [`FLAT_COLUMNS`], less [`EXPLANATION`]
+/// unless `explain`.
+pub fn columns(explain: bool) -> impl Iterator<Item = &'static str> {
+    FLAT_COLUMNS
+        .iter()
+        .copied()
+        .filter(move |name| explain || *name != EXPLANATION)
+}
 
 /// The `--keep` names the runs carry (every run carries the same, in the order
 /// asked): the flat formats' columns after [`FLAT_COLUMNS`].
@@ -95,7 +109,9 @@ struct FlatRun<'a> {
     certified_gap_max: Option<f64>,
     claim_error_rate: Option<f64>,
     verdict: &'static str,
-    explanation: &'a str,
+    /// Only with `--explain`.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    explanation: Option<&'a str>,
     holdout_needed: Option<u64>,
     train_needed: Option<u64>,
     /// Codes only: the sentences are in the JSON document, table, Markdown and HTML.
@@ -108,7 +124,7 @@ struct FlatRun<'a> {
 }
 
 impl<'a> FlatRun<'a> {
-    fn of(r: &'a RunResult) -> FlatRun<'a> {
+    fn of(r: &'a RunResult, explain: bool) -> FlatRun<'a> {
         FlatRun {
             run: &r.run,
             source: &r.source,
@@ -136,7 +152,7 @@ impl<'a> FlatRun<'a> {
             certified_gap_max: r.certified_gap_max,
             claim_error_rate: r.claim_error_rate,
             verdict: r.verdict.as_str(),
-            explanation: &r.explanation,
+            explanation: explain.then_some(r.explanation.as_str()),
             holdout_needed: r.holdout_needed,
             train_needed: r.train_needed,
             findings: r.findings.iter().map(|f| f.code.as_str()).collect(),
@@ -152,11 +168,12 @@ impl<'a> FlatRun<'a> {
 const RUNS_PER_TASK: usize = 2048;
 const TASKS_PER_BATCH: usize = 16;
 
-/// One JSON object per line per run. Lines are formatted in parallel and written in
-/// input order, so the output is identical to a sequential writer's.
-pub fn write_ndjson(runs: &[RunResult], out: &mut dyn Write) -> io::Result<()> {
+/// One JSON object per line per run (the explanation only if `explain`). Lines are
+/// formatted in parallel and written in input order, so the output is identical to
+/// a sequential writer's.
+pub fn write_ndjson(runs: &[RunResult], explain: bool, out: &mut dyn Write) -> io::Result<()> {
     for batch in runs.chunks(RUNS_PER_TASK * TASKS_PER_BATCH) {
-        for buffer in format_ndjson(batch) {
+        for buffer in format_ndjson(batch, explain) {
             out.write_all(&buffer?)?;
         }
     }
@@ -164,17 +181,17 @@ pub fn write_ndjson(runs: &[RunResult], out: &mut dyn Write) -> io::Result<()> {
 }
 
 /// The JSON lines of `runs`, formatted in parallel: buffers to write in order.
-pub fn format_ndjson(runs: &[RunResult]) -> Vec<io::Result<Vec<u8>>> {
+pub fn format_ndjson(runs: &[RunResult], explain: bool) -> Vec<io::Result<Vec<u8>>> {
     runs.par_chunks(RUNS_PER_TASK)
         .map(|task| {
             // Sized from the first line (with a quarter to spare), so the buffer is
             // not grown, which copies it, for a typical task.
             let mut buffer = Vec::with_capacity(1536);
             if let Some((first, rest)) = task.split_first() {
-                push_json_line(&mut buffer, first);
+                push_json_line(&mut buffer, first, explain);
                 buffer.reserve(buffer.len() * rest.len() * 5 / 4);
                 for run in rest {
-                    push_json_line(&mut buffer, run);
+                    push_json_line(&mut buffer, run, explain);
                 }
             }
             Ok(buffer)
@@ -186,7 +203,7 @@ pub fn format_ndjson(runs: &[RunResult]) -> Vec<io::Result<Vec<u8>>> {
 /// same fields, order and bytes; tests compare the two), written directly: keys as
 /// constant bytes, numbers through the same formatters serde_json uses (zmij for
 /// floats, itoa for integers), text with serde_json's escapes.
-fn push_json_line(line: &mut Vec<u8>, r: &RunResult) {
+fn push_json_line(line: &mut Vec<u8>, r: &RunResult, explain: bool) {
     line.extend_from_slice(b"{\"run\":");
     push_text(line, &r.run);
     line.extend_from_slice(b",\"source\":");
@@ -239,8 +256,11 @@ fn push_json_line(line: &mut Vec<u8>, r: &RunResult) {
     push_opt_f64(line, r.claim_error_rate);
     line.extend_from_slice(b",\"verdict\":\"");
     line.extend_from_slice(r.verdict.as_str().as_bytes());
-    line.extend_from_slice(b"\",\"explanation\":");
-    push_text(line, &r.explanation);
+    line.push(b'"');
+    if explain {
+        line.extend_from_slice(b",\"explanation\":");
+        push_text(line, &r.explanation);
+    }
     line.extend_from_slice(b",\"holdout_needed\":");
     push_opt_u64(line, r.holdout_needed);
     line.extend_from_slice(b",\"train_needed\":");
@@ -359,9 +379,13 @@ fn push_text(line: &mut Vec<u8>, text: &str) {
 
 /// `runs` as JSON lines through serde (the reference for [`write_ndjson`]'s
 /// hand-written lines).
-pub fn write_ndjson_serde(runs: &[RunResult], out: &mut dyn Write) -> io::Result<()> {
+pub fn write_ndjson_serde(
+    runs: &[RunResult],
+    explain: bool,
+    out: &mut dyn Write,
+) -> io::Result<()> {
     for run in runs {
-        serde_json::to_writer(&mut *out, &FlatRun::of(run))?;
+        serde_json::to_writer(&mut *out, &FlatRun::of(run, explain))?;
         out.write_all(b"\n")?;
     }
     Ok(())
@@ -370,14 +394,14 @@ pub fn write_ndjson_serde(runs: &[RunResult], out: &mut dyn Write) -> io::Result
 /// RFC 4180 CSV with a header. Text cells that a spreadsheet would run as a formula
 /// (leading `=`, `+`, `-`, `@`, tab or carriage return) are prefixed with `'`;
 /// numbers are written as numbers, never altered.
-pub fn write_csv(runs: &[RunResult], out: &mut dyn Write) -> io::Result<()> {
-    write_csv_header(&kept_names(runs), out)?;
-    write_csv_rows(runs, out)
+pub fn write_csv(runs: &[RunResult], explain: bool, out: &mut dyn Write) -> io::Result<()> {
+    write_csv_header(&kept_names(runs), explain, out)?;
+    write_csv_rows(runs, explain, out)
 }
 
 /// The CSV header line: the flat columns, then the `--keep` columns.
-pub fn write_csv_header(kept: &[&str], out: &mut dyn Write) -> io::Result<()> {
-    let mut line = FLAT_COLUMNS.join(",");
+pub fn write_csv_header(kept: &[&str], explain: bool, out: &mut dyn Write) -> io::Result<()> {
+    let mut line = columns(explain).collect::<Vec<_>>().join(",");
     for name in kept {
         line.push(',');
         line.push_str(&text_cell(name));
@@ -387,18 +411,18 @@ pub fn write_csv_header(kept: &[&str], out: &mut dyn Write) -> io::Result<()> {
 
 /// The CSV lines of `runs` (no header), formatted in parallel: buffers to write in
 /// order.
-pub fn format_csv_rows(runs: &[RunResult]) -> Vec<io::Result<Vec<u8>>> {
+pub fn format_csv_rows(runs: &[RunResult], explain: bool) -> Vec<io::Result<Vec<u8>>> {
     runs.par_chunks(RUNS_PER_TASK)
         .map(|task| {
             let mut buffer = Vec::with_capacity(task.len() * 640);
-            write_csv_rows(task, &mut buffer)?;
+            write_csv_rows(task, explain, &mut buffer)?;
             Ok(buffer)
         })
         .collect()
 }
 
 /// CSV lines for `runs`, without the header (for writing batch by batch).
-pub fn write_csv_rows(runs: &[RunResult], out: &mut dyn Write) -> io::Result<()> {
+pub fn write_csv_rows(runs: &[RunResult], explain: bool, out: &mut dyn Write) -> io::Result<()> {
     let mut line = String::with_capacity(512);
     for r in runs {
         line.clear();
@@ -438,6 +462,9 @@ pub fn write_csv_rows(runs: &[RunResult], out: &mut dyn Write) -> io::Result<()>
             text_cell(&r.copies.join(";")),
         ];
         for (index, field) in fields.iter().enumerate() {
+            if index == EXPLANATION_AT && !explain {
+                continue;
+            }
             if index > 0 {
                 line.push(',');
             }
@@ -452,6 +479,9 @@ pub fn write_csv_rows(runs: &[RunResult], out: &mut dyn Write) -> io::Result<()>
     }
     Ok(())
 }
+
+/// Where the explanation sits among the flat columns.
+const EXPLANATION_AT: usize = 26;
 
 fn opt_num<T: ToString>(value: Option<T>) -> String {
     value.map(|v| v.to_string()).unwrap_or_default()
@@ -477,8 +507,9 @@ pub fn text_cell(text: &str) -> String {
     }
 }
 
-/// The runs as a polars DataFrame with the flat columns (for Parquet).
-pub fn runs_frame(runs: &[RunResult]) -> PolarsResult<DataFrame> {
+/// The runs as a polars DataFrame with the flat columns (for Parquet; the
+/// explanation only if `explain`).
+pub fn runs_frame(runs: &[RunResult], explain: bool) -> PolarsResult<DataFrame> {
     let text = |name: &str, f: &dyn Fn(&RunResult) -> Option<String>| -> Column {
         Series::new(name.into(), runs.iter().map(f).collect::<Vec<_>>()).into()
     };
@@ -515,7 +546,7 @@ pub fn runs_frame(runs: &[RunResult]) -> PolarsResult<DataFrame> {
         float("certified_gap_max", &|r| r.certified_gap_max),
         float("claim_error_rate", &|r| r.claim_error_rate),
         text("verdict", &|r| Some(r.verdict.as_str().to_string())),
-        text("explanation", &|r| Some(r.explanation.clone())),
+        text(EXPLANATION, &|r| explain.then(|| r.explanation.clone())),
         count("holdout_needed", &|r| r.holdout_needed),
         count("train_needed", &|r| r.train_needed),
         text("findings", &|r| {
@@ -531,6 +562,9 @@ pub fn runs_frame(runs: &[RunResult]) -> PolarsResult<DataFrame> {
         text("copies", &|r| Some(r.copies.join(";"))),
     ];
     let mut columns = columns;
+    if !explain {
+        columns.retain(|column| column.name().as_str() != EXPLANATION);
+    }
     for (at, name) in kept_names(runs).into_iter().enumerate() {
         columns.push(text(name, &|r| r.kept.get(at).and_then(|(_, v)| v.clone())));
     }
@@ -538,8 +572,8 @@ pub fn runs_frame(runs: &[RunResult]) -> PolarsResult<DataFrame> {
 }
 
 /// Parquet, written through polars.
-pub fn write_parquet(runs: &[RunResult], out: &mut dyn Write) -> io::Result<()> {
-    let mut frame = runs_frame(runs).map_err(io::Error::other)?;
+pub fn write_parquet(runs: &[RunResult], explain: bool, out: &mut dyn Write) -> io::Result<()> {
+    let mut frame = runs_frame(runs, explain).map_err(io::Error::other)?;
     ParquetWriter::new(out)
         .finish(&mut frame)
         .map(|_| ())

@@ -37,9 +37,9 @@ pub fn write_report(
     match format {
         OutputFormat::Table => table::write_table(doc, out, presentation),
         OutputFormat::Json => write_json(doc, out),
-        OutputFormat::Ndjson => flat::write_ndjson(&doc.runs, out),
-        OutputFormat::Csv => flat::write_csv(&doc.runs, out),
-        OutputFormat::Parquet => flat::write_parquet(&doc.runs, out),
+        OutputFormat::Ndjson => flat::write_ndjson(&doc.runs, presentation.explain, out),
+        OutputFormat::Csv => flat::write_csv(&doc.runs, presentation.explain, out),
+        OutputFormat::Parquet => flat::write_parquet(&doc.runs, presentation.explain, out),
         OutputFormat::Markdown => markdown::write_markdown(doc, out, presentation),
         OutputFormat::Junit => junit::write_junit(doc, out),
     }

@@ -60,6 +60,9 @@ pub struct Presentation {
     pub only: Vec<Verdict>,
     /// Show at most this many runs, worst first (None: up to [`DEFAULT_SHOWN`]).
     pub top: Option<usize>,
+    /// The flat formats (JSON lines, CSV, Parquet) carry each run's explanation
+    /// (`--explain`); otherwise codes and numbers only.
+    pub explain: bool,
 }
 
 /// Runs a human-readable report lists when `--top` is not given: a larger audit is

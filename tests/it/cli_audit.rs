@@ -827,7 +827,14 @@ fn reports_of_one_audit_equal_the_reports_written_one_by_one() {
     let logs = root().join("fixtures/demo/runs.csv");
     let claims = root().join("fixtures/demo/claims.csv");
     let (logs, claims) = (logs.to_str().unwrap(), claims.to_str().unwrap());
-    let names = ["all.json", "all.ndjson", "all.csv", "all.md", "all.xml", "all.html"];
+    let names = [
+        "all.json",
+        "all.ndjson",
+        "all.csv",
+        "all.md",
+        "all.xml",
+        "all.html",
+    ];
     let mut args = vec!["audit", logs, "--claims", claims, "--quiet"];
     let paths: Vec<String> = names.iter().map(|n| at(n)).collect();
     for path in &paths {
@@ -863,7 +870,66 @@ fn reports_of_one_audit_equal_the_reports_written_one_by_one() {
     let output = gapcert(&["audit", logs, "--report", &at("out.txt")]);
     assert_eq!(output.status.code(), Some(2));
     assert!(stderr(&output).contains("--report"), "{}", stderr(&output));
-    let output = gapcert(&["audit", logs, "--report", logs.replace(".csv", ".csv").as_str()]);
+    let output = gapcert(&[
+        "audit",
+        logs,
+        "--report",
+        logs.replace(".csv", ".csv").as_str(),
+    ]);
     assert_eq!(output.status.code(), Some(2));
-    assert!(stderr(&output).contains("is the input"), "{}", stderr(&output));
+    assert!(
+        stderr(&output).contains("is the input"),
+        "{}",
+        stderr(&output)
+    );
+}
+
+/// The flat formats carry codes and numbers; `--explain` adds each run's explanation
+/// and nothing else: the same line with one more field, the sentence of the JSON
+/// document (SPEC §7).
+#[test]
+fn explain_adds_the_sentence_to_the_flat_formats_and_nothing_else() {
+    let demo = root().join("fixtures/demo/runs.csv");
+    let demo = demo.to_str().unwrap();
+    let (_, document) = gapcert_json(&["audit", demo, "--format", "json", "--gate", "never"]);
+    let runs = runs_of(&document);
+    let lines = |explain: bool| -> Vec<Value> {
+        let mut args = vec!["audit", demo, "--format", "ndjson", "--gate", "never"];
+        if explain {
+            args.push("--explain");
+        }
+        let output = gapcert(&args);
+        assert_eq!(output.status.code(), Some(0), "{}", stderr(&output));
+        stdout(&output)
+            .lines()
+            .map(|line| serde_json::from_str(line).unwrap())
+            .collect()
+    };
+    let (plain, explained) = (lines(false), lines(true));
+    assert_eq!(plain.len(), runs.len());
+    for ((plain, mut explained), run) in plain.into_iter().zip(explained).zip(&runs) {
+        assert!(plain.get("explanation").is_none(), "{plain}");
+        let sentence = explained
+            .as_object_mut()
+            .unwrap()
+            .remove("explanation")
+            .expect("--explain writes the explanation");
+        assert_eq!(sentence, run["explanation"]);
+        assert!(!sentence.as_str().unwrap().is_empty());
+        assert_eq!(plain, explained, "only the explanation differs");
+    }
+    // CSV: the explanation column comes and goes with --explain.
+    for (explain, has) in [(false, false), (true, true)] {
+        let mut args = vec!["audit", demo, "--format", "csv", "--gate", "never"];
+        if explain {
+            args.push("--explain");
+        }
+        let output = gapcert(&args);
+        let header = stdout(&output).lines().next().unwrap().to_string();
+        assert_eq!(
+            header.split(',').any(|c| c == "explanation"),
+            has,
+            "{header}"
+        );
+    }
 }

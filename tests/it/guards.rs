@@ -291,11 +291,20 @@ fn every_verdict_explains_itself_in_every_format() {
     );
     let certifiable = over["certifiable_accuracy"].as_f64().unwrap();
     assert!((certifiable - (1.0 - over["error_upper_bound"].as_f64().unwrap())).abs() < 1e-15);
-    // The same sentence in the flat formats and the human-readable ones.
+    // The same sentence in the human-readable formats, and in the flat ones with
+    // --explain (without it they carry codes and numbers only).
     for format in ["ndjson", "csv", "markdown", "table"] {
         let output = gapcert_in(
             dir.path(),
-            &["audit", "runs.csv", "--format", format, "--gate", "never"],
+            &[
+                "audit",
+                "runs.csv",
+                "--format",
+                format,
+                "--gate",
+                "never",
+                "--explain",
+            ],
             &[],
         );
         let text = stdout(&output);

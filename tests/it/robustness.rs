@@ -288,7 +288,7 @@ fn csv_neutralises_formulas_in_text_cells_only() {
         runs.push(r);
     }
     let mut out = Vec::new();
-    write_csv(&runs, &mut out).unwrap();
+    write_csv(&runs, true, &mut out).unwrap();
     let text = String::from_utf8(out).unwrap();
     let rows = parse_csv_text(&text);
     assert_eq!(rows.len(), runs.len(), "one record per run:\n{text}");
@@ -1362,11 +1362,21 @@ fn a_fifo_named_like_a_log_does_not_hang_the_audit() {
     finished.assert_no_crash("audit of a folder holding a FIFO named pipe.csv");
 }
 
-/// Helper for ad-hoc checks: the flat CSV header is what the spec lists.
+/// The flat CSV header is the spec's column list: with `--explain` every column,
+/// without it every column but the explanation.
 #[test]
 fn csv_header_is_the_flat_column_list() {
     let mut out = Vec::new();
-    write_csv(&small_document().runs, &mut out).unwrap();
+    write_csv(&small_document().runs, true, &mut out).unwrap();
     let text = String::from_utf8(out).unwrap();
     assert_eq!(text.lines().next().unwrap(), FLAT_COLUMNS.join(","));
+    let mut out = Vec::new();
+    write_csv(&small_document().runs, false, &mut out).unwrap();
+    let text = String::from_utf8(out).unwrap();
+    let without: Vec<&str> = FLAT_COLUMNS
+        .iter()
+        .copied()
+        .filter(|c| *c != "explanation")
+        .collect();
+    assert_eq!(text.lines().next().unwrap(), without.join(","));
 }

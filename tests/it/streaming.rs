@@ -44,7 +44,7 @@ fn json(runs: &[RunResult]) -> String {
 
 fn ndjson(runs: &[RunResult]) -> Vec<u8> {
     let mut out = Vec::new();
-    gapcert::report::flat::write_ndjson(runs, &mut out).expect("write");
+    gapcert::report::flat::write_ndjson(runs, false, &mut out).expect("write");
     out
 }
 
@@ -348,12 +348,16 @@ fn hand_written_json_lines_equal_serde_output() {
     runs[0].logged_at = None;
     runs[1].growth_ln = Some(f64::NAN);
     runs[1].vc_bound = Some(f64::INFINITY);
-    let mut serde = Vec::new();
-    gapcert::report::flat::write_ndjson_serde(&runs, &mut serde).expect("write");
-    assert_eq!(
-        String::from_utf8(ndjson(&runs)).unwrap(),
-        String::from_utf8(serde).unwrap()
-    );
+    for explain in [false, true] {
+        let mut serde = Vec::new();
+        gapcert::report::flat::write_ndjson_serde(&runs, explain, &mut serde).expect("write");
+        let mut ours = Vec::new();
+        gapcert::report::flat::write_ndjson(&runs, explain, &mut ours).expect("write");
+        assert_eq!(
+            String::from_utf8(ours).unwrap(),
+            String::from_utf8(serde).unwrap()
+        );
+    }
 }
 
 /// A binary (not string) text column with one cell that is not UTF-8: each cell is
