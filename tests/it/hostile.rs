@@ -7,6 +7,7 @@
 
 use std::path::{Path, PathBuf};
 use std::process::{Command, Output};
+use std::time::{Duration, SystemTime};
 
 use crate::common::{binary, root};
 
@@ -180,5 +181,213 @@ fn claims_reports_in_a_folder_are_still_left_out() {
             err.contains(&format!("exp/{name}: a gapcert report of runs")),
             "{name}: {err}"
         );
+    }
+}
+
+// ---------------------------------------------------------------------------------
+// Item 2: a planted link never redirects an output.
+
+/// The PID the kernel gave last (in this PID namespace).
+fn last_pid() -> u32 {
+    std::fs::read_to_string("/proc/sys/kernel/ns_last_pid")
+        .ok()
+        .and_then(|text| text.trim().parse().ok())
+        .unwrap_or_else(std::process::id)
+}
+
+#[test]
+fn links_planted_at_temporary_names_are_never_followed() {
+    let dir = tempfile::tempdir().unwrap();
+    let log = write(dir.path(), "runs.csv", PASSING_LOG);
+    let victim = write(dir.path(), "victim.txt", "not to be overwritten\n");
+    let out = dir.path().join("out");
+    std::fs::create_dir_all(&out).unwrap();
+    // Links at the names the next few hundred processes would have used.
+    let next = last_pid();
+    let mut planted = Vec::new();
+    for pid in next + 1..next + 400 {
+        for target in [&victim, &log] {
+            let link = out.join(format!(".audit.csv.gapcert-{pid}.tmp"));
+            if std::os::unix::fs::symlink(target, &link).is_ok() {
+                planted.push((link, target.clone()));
+            }
+        }
+    }
+    let output = run_in(
+        dir.path(),
+        &[
+            "audit",
+            "runs.csv",
+            "-o",
+            "out/audit.csv",
+            "--gate",
+            "never",
+        ],
+    );
+    assert_eq!(output.status.code(), Some(0), "{}", text(&output.stderr));
+    assert_eq!(
+        std::fs::read_to_string(&victim).unwrap(),
+        "not to be overwritten\n"
+    );
+    assert_eq!(std::fs::read_to_string(&log).unwrap(), PASSING_LOG);
+    let written = out.join("audit.csv");
+    let metadata = std::fs::symlink_metadata(&written).unwrap();
+    assert!(metadata.file_type().is_file(), "{metadata:?}");
+    assert!(std::fs::read_to_string(&written)
+        .unwrap()
+        .starts_with("run,source,"));
+    for (link, target) in planted {
+        assert_eq!(std::fs::read_link(&link).unwrap(), target, "{link:?}");
+    }
+}
+
+#[test]
+fn the_temporary_has_a_random_name_naming_its_process() {
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("out.bin");
+    let mut seen = Vec::new();
+    for _ in 0..2 {
+        gapcert::report::write_atomically(&path, |out| {
+            let entries: Vec<String> = std::fs::read_dir(dir.path())
+                .unwrap()
+                .map(|entry| entry.unwrap().file_name().to_string_lossy().to_string())
+                .filter(|name| name.starts_with(".out.bin."))
+                .collect();
+            assert_eq!(entries.len(), 1, "{entries:?}");
+            let name = &entries[0];
+            assert_eq!(
+                gapcert::report::atomic::temporary_name_owner(name),
+                Some(std::process::id()),
+                "{name}"
+            );
+            let prefix = format!(".out.bin.gapcert-{}-", std::process::id());
+            let random = name
+                .strip_prefix(&prefix)
+                .and_then(|rest| rest.strip_suffix(".tmp"))
+                .unwrap_or_else(|| panic!("{name}"));
+            assert!(random.len() >= 6, "{name}");
+            seen.push(name.clone());
+            out.write_all(b"written")
+        })
+        .unwrap();
+    }
+    assert_ne!(seen[0], seen[1], "each temporary gets a fresh name");
+    assert_eq!(std::fs::read(&path).unwrap(), b"written");
+    let left: Vec<_> = std::fs::read_dir(dir.path()).unwrap().collect();
+    assert_eq!(left.len(), 1, "no temporary is left behind");
+}
+
+// ---------------------------------------------------------------------------------
+// Item 3: temporaries of killed audits are removed by the next audit.
+
+/// A PID above the kernel's largest (2^22), so never a live process.
+const DEAD_PID: u32 = 4_194_999;
+
+fn backdate(path: &Path, age: Duration) {
+    let file = std::fs::OpenOptions::new().write(true).open(path).unwrap();
+    file.set_modified(SystemTime::now() - age).unwrap();
+}
+
+#[test]
+fn temporaries_of_killed_audits_are_removed_by_the_next_audit() {
+    let dir = tempfile::tempdir().unwrap();
+    write(dir.path(), "runs.csv", PASSING_LOG);
+    let out = dir.path().join("out");
+    let hour = Duration::from_secs(3600);
+    // A process that has ended: its PID is gone from /proc (unless reused at once).
+    let mut child = Command::new("true").spawn().unwrap();
+    let ended = child.id();
+    child.wait().unwrap();
+    let dead = [
+        format!(".audit.csv.gapcert-{DEAD_PID}-Ab3dEf9h.tmp"),
+        format!(".other.parquet.gapcert-{ended}-zZ09azAZ.tmp"),
+        // As earlier versions named them.
+        format!(".audit.csv.gapcert-{DEAD_PID}.tmp"),
+    ];
+    let alive = format!(".audit.csv.gapcert-{}-Ab3dEf9h.tmp", std::process::id());
+    let kept = [
+        alive.clone(),
+        // Not gapcert's names.
+        format!(".audit.csv.other-{DEAD_PID}-Ab3dEf9h.tmp"),
+        format!("audit.csv.gapcert-{DEAD_PID}-Ab3dEf9h.tmp"),
+        format!(".audit.csv.gapcert-{DEAD_PID}-Ab3d.Ef9h.tmp"),
+        format!(".audit.csv.gapcert-x{DEAD_PID}-Ab3dEf9h.tmp"),
+        "notes.tmp".to_string(),
+    ];
+    for name in dead.iter().chain(&kept) {
+        write(&out, name, "partial output");
+        backdate(&out.join(name), hour);
+    }
+    // A dead writer's temporary written to a moment ago is left for a minute (a
+    // writer in another PID namespace may still be at it).
+    let recent = format!(".recent.csv.gapcert-{DEAD_PID}-Ab3dEf9h.tmp");
+    write(&out, &recent, "partial output");
+    // A link at a gapcert name is not gapcert's: neither it nor its target goes.
+    let target = write(dir.path(), "target.txt", "keep me");
+    let link = out.join(format!(".link.csv.gapcert-{DEAD_PID}-Ab3dEf9h.tmp"));
+    std::os::unix::fs::symlink(&target, &link).unwrap();
+
+    let output = run_in(
+        dir.path(),
+        &[
+            "audit",
+            "runs.csv",
+            "-o",
+            "out/audit.csv",
+            "--gate",
+            "never",
+        ],
+    );
+    let err = text(&output.stderr);
+    assert_eq!(output.status.code(), Some(0), "{err}");
+    for name in &dead {
+        assert!(!out.join(name).exists(), "{name} should be removed");
+    }
+    for name in kept.iter().chain([&recent]) {
+        assert!(out.join(name).exists(), "{name} should stay");
+    }
+    assert!(std::fs::symlink_metadata(&link).is_ok());
+    assert_eq!(std::fs::read_to_string(&target).unwrap(), "keep me");
+    assert!(
+        err.contains("removed 3 temporary file(s) left by interrupted audits in")
+            && err.contains("out"),
+        "{err}"
+    );
+    // Nothing left to remove: nothing said.
+    let output = run_in(
+        dir.path(),
+        &[
+            "audit",
+            "runs.csv",
+            "-o",
+            "out/audit.csv",
+            "--gate",
+            "never",
+        ],
+    );
+    assert!(
+        !text(&output.stderr).contains("removed"),
+        "{}",
+        text(&output.stderr)
+    );
+}
+
+#[test]
+fn temporary_names_are_recognised_exactly() {
+    use gapcert::report::atomic::temporary_name_owner as owner;
+    assert_eq!(owner(".a.csv.gapcert-123-AbC09x.tmp"), Some(123));
+    assert_eq!(owner(".a.csv.gapcert-123.tmp"), Some(123));
+    assert_eq!(owner(".x.gapcert-1.csv.gapcert-77-q.tmp"), Some(77));
+    for name in [
+        "a.csv.gapcert-123-AbC09x.tmp",
+        ".a.csv.gapcert-123-AbC09x.tmpx",
+        ".a.csv.gapcert--AbC09x.tmp",
+        ".a.csv.gapcert-12a-AbC09x.tmp",
+        ".a.csv.gapcert-123-Ab/C.tmp",
+        ".a.csv.gapcert-123-.tmp",
+        "..gapcert-123-AbC09x.tmp",
+        ".a.csv.gapcert-99999999999-AbC09x.tmp",
+    ] {
+        assert_eq!(owner(name), None, "{name}");
     }
 }
