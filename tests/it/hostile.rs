@@ -391,3 +391,56 @@ fn temporary_names_are_recognised_exactly() {
         assert_eq!(owner(name), None, "{name}");
     }
 }
+
+// ---------------------------------------------------------------------------------
+// Item 8: escape sequences in file names and cells never reach the terminal.
+
+/// Control characters a terminal acts on: ESC (CSI, OSC 8 links), BEL, and the
+/// 8-bit CSI.
+fn has_terminal_controls(text: &str) -> bool {
+    text.chars().any(|c| c.is_control() && c != '\n')
+}
+
+#[test]
+fn error_messages_escape_terminal_sequences() {
+    let dir = tempfile::tempdir().unwrap();
+    let hostile_name =
+        "runs\u{1b}]8;;https://example.invalid/\u{7}click\u{1b}]8;;\u{7}\u{1b}[2J.csv";
+    // A file name with an OSC 8 link and a screen clear, holding a bad cell with a
+    // colour sequence.
+    write(
+        dir.path(),
+        hostile_name,
+        "run,holdout_n,holdout_misclassified,claimed_accuracy\nhx\u{1b}[31mred,many\u{1b}[5m,3,0.9\n",
+    );
+    let output = run_in(dir.path(), &["audit", hostile_name]);
+    let err = text(&output.stderr);
+    assert_eq!(output.status.code(), Some(2), "{err}");
+    assert!(!has_terminal_controls(&err), "{err:?}");
+    assert!(err.contains('\u{FFFD}'), "{err:?}");
+    assert!(err.contains("holdout_n"), "{err:?}");
+
+    // A claims file whose cell names a run that does not exist.
+    write(dir.path(), "runs.csv", PASSING_LOG);
+    write(
+        dir.path(),
+        "claims.csv",
+        "claim,kind,run,value\nc\u{1b}[1m1,accuracy,hx\u{1b}]8;;http://x\u{7}nope,0.9\n",
+    );
+    let output = run_in(dir.path(), &["audit", "runs.csv", "--claims", "claims.csv"]);
+    let err = text(&output.stderr);
+    assert_eq!(output.status.code(), Some(2), "{err}");
+    assert!(!has_terminal_controls(&err), "{err:?}");
+
+    // A path that does not exist, and an argument clap echoes back.
+    let missing = "missing\u{1b}[2J.csv";
+    let output = run_in(dir.path(), &["audit", missing]);
+    let err = text(&output.stderr);
+    assert_eq!(output.status.code(), Some(2), "{err}");
+    assert!(!has_terminal_controls(&err), "{err:?}");
+    assert!(err.contains("missing\u{FFFD}[2J.csv"), "{err:?}");
+    let output = run_in(dir.path(), &["audit", "runs.csv", "--gate", "x\u{1b}[2J"]);
+    let err = text(&output.stderr);
+    assert_eq!(output.status.code(), Some(2), "{err}");
+    assert!(!has_terminal_controls(&err), "{err:?}");
+}
