@@ -31,13 +31,9 @@ pub fn remove_temporaries() -> usize {
     }
 }
 
-fn track(path: &Path, live: bool) {
+fn untrack(path: &Path) {
     if let Ok(mut list) = LIVE_TEMPORARIES.lock() {
-        if live {
-            list.push(path.to_path_buf());
-        } else {
-            list.retain(|p| p != path);
-        }
+        list.retain(|p| p != path);
     }
 }
 
@@ -324,16 +320,24 @@ where
         })?
         .to_string_lossy()
         .to_string();
-    let (file, temporary) = tempfile::Builder::new()
-        .prefix(&format!(
-            ".{file_name}{TEMPORARY_MARK}{}-",
-            std::process::id()
-        ))
-        .suffix(TEMPORARY_SUFFIX)
-        .rand_bytes(TEMPORARY_RANDOM_LENGTH)
-        .make_in(&folder, create_new)?
-        .into_parts();
-    track(&temporary, true);
+    // Created and listed under the list's lock: a signal that arrives once the file
+    // exists finds it listed (the handler waits for the lock).
+    let (file, temporary) = {
+        let mut live = LIVE_TEMPORARIES
+            .lock()
+            .unwrap_or_else(std::sync::PoisonError::into_inner);
+        let (file, temporary) = tempfile::Builder::new()
+            .prefix(&format!(
+                ".{file_name}{TEMPORARY_MARK}{}-",
+                std::process::id()
+            ))
+            .suffix(TEMPORARY_SUFFIX)
+            .rand_bytes(TEMPORARY_RANDOM_LENGTH)
+            .make_in(&folder, create_new)?
+            .into_parts();
+        live.push(temporary.to_path_buf());
+        (file, temporary)
+    };
     let result = (|| {
         let mut file = OutputFile::new(file);
         write(&mut file)?;
@@ -344,7 +348,7 @@ where
     let tracked = temporary.to_path_buf();
     // On failure, dropping `temporary` removes the file.
     let result = result.and_then(|()| temporary.persist(path).map_err(|error| error.error));
-    track(&tracked, false);
+    untrack(&tracked);
     result
 }
 
