@@ -49,17 +49,6 @@ pub struct LogFile {
     pub in_folder: bool,
 }
 
-impl LogFile {
-    /// Where the log's bytes come from, for reading.
-    pub fn source(&self) -> super::LogSource<'static> {
-        if self.in_folder {
-            super::LogSource::InFolder(self.path.clone(), self.format)
-        } else {
-            super::LogSource::Path(self.path.clone(), self.format)
-        }
-    }
-}
-
 /// Device and inode of a file.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
 pub struct FileIdentity {

@@ -18,8 +18,9 @@ use serde_json::Value;
 
 use super::discover::LogFormat;
 use crate::error::Problem;
-use crate::report::claims::CLAIM_COLUMNS;
-use crate::report::flat::FLAT_COLUMNS;
+use crate::report::own_outputs::{
+    CERTIFICATE_FORMAT, CLAIM_COLUMNS, DOCUMENT_MEMBERS, FLAT_COLUMNS, OPTIONAL_DOCUMENT_MEMBERS,
+};
 
 const UTF8_BOM: &[u8] = &[0xEF, 0xBB, 0xBF];
 
@@ -117,24 +118,6 @@ fn json_keys(line: &[u8]) -> Option<Vec<String>> {
     serde_json::from_slice::<Keys>(line).ok().map(|keys| keys.0)
 }
 
-/// The JSON document's members ([`crate::report::document::AuditDocument`]) as serde writes
-/// them; the last three are absent from documents of older versions.
-const DOCUMENT_MEMBERS: &[&str] = &[
-    "tool",
-    "generated_at",
-    "settings",
-    "inputs",
-    "runs",
-    "summary",
-    "skipped_rows",
-    "skipped_files",
-    "cautions",
-    "claims",
-    "claim_files",
-    "splits",
-];
-const OPTIONAL_DOCUMENT_MEMBERS: usize = 3;
-
 /// Whether `bytes` hold gapcert's JSON document or a certificate (the document plus a
 /// `certificate` member). The top-level object is walked member by member, values
 /// skipped without being kept, and the walk stops at the first member no document has
@@ -206,9 +189,9 @@ fn document_kind(bytes: &[u8]) -> Option<&'static str> {
         return None;
     }
     // Any version of the certificate format ("gapcert-certificate/1").
-    let certificate_family = crate::certificate::CERTIFICATE_FORMAT
+    let certificate_family = CERTIFICATE_FORMAT
         .split_once('/')
-        .map_or(crate::certificate::CERTIFICATE_FORMAT, |(family, _)| family);
+        .map_or(CERTIFICATE_FORMAT, |(family, _)| family);
     match shape.certificate_format {
         None => Some("a gapcert report"),
         Some(format)

@@ -72,6 +72,17 @@ pub enum LogSource<'a> {
     Memory(&'a str, &'a [u8], LogFormat),
 }
 
+impl LogFile {
+    /// Where the log's bytes come from, for reading.
+    pub fn source(&self) -> LogSource<'static> {
+        if self.in_folder {
+            LogSource::InFolder(self.path.clone(), self.format)
+        } else {
+            LogSource::Path(self.path.clone(), self.format)
+        }
+    }
+}
+
 /// Told (files read so far, files in all) as each file is read, for a progress bar.
 pub type FileProgress<'a> = &'a (dyn Fn(usize, usize) + Sync);
 

@@ -9,41 +9,7 @@ use serde::Serialize;
 
 use crate::audit::RunResult;
 
-/// The flat column names, in output order.
-pub const FLAT_COLUMNS: &[&str] = &[
-    "run",
-    "source",
-    "family",
-    "train_n",
-    "train_error_rate",
-    "holdout_n",
-    "holdout_error_rate",
-    "holdout_misclassified",
-    "holdout_set",
-    "candidates",
-    "delta",
-    "hoeffding_interval_lo",
-    "hoeffding_interval_hi",
-    "binomial_interval_lo",
-    "binomial_interval_hi",
-    "error_upper_bound",
-    "error_lower_bound",
-    "certifiable_accuracy",
-    "vc_dim",
-    "growth_ln",
-    "vc_allowance",
-    "vc_bound",
-    "observed_gap",
-    "certified_gap_max",
-    "claim_error_rate",
-    "verdict",
-    "explanation",
-    "holdout_needed",
-    "train_needed",
-    "findings",
-    "logged_at",
-    "copies",
-];
+pub use super::own_outputs::FLAT_COLUMNS;
 
 /// The `--keep` names the runs carry (every run carries the same, in the order
 /// asked): the flat formats' columns after [`FLAT_COLUMNS`].

@@ -184,6 +184,49 @@ fn claims_reports_in_a_folder_are_still_left_out() {
     }
 }
 
+/// The members gapcert's JSON documents are recognised by are those it writes (a
+/// list that must agree with the writer, checked rather than trusted).
+#[test]
+fn the_document_members_recognised_are_those_written() {
+    use gapcert::report::own_outputs::{DOCUMENT_MEMBERS, OPTIONAL_DOCUMENT_MEMBERS};
+    let dir = tempfile::tempdir().unwrap();
+    let output = run_in(
+        dir.path(),
+        &[
+            "demo",
+            "--format",
+            "json",
+            "--certificate",
+            "demo.cert.json",
+        ],
+    );
+    assert_eq!(output.status.code(), Some(0), "{}", text(&output.stderr));
+    let doc: serde_json::Value = serde_json::from_slice(&output.stdout).unwrap();
+    let mut members: Vec<&str> = doc
+        .as_object()
+        .unwrap()
+        .keys()
+        .map(String::as_str)
+        .collect();
+    members.sort_unstable();
+    let mut expected = DOCUMENT_MEMBERS.to_vec();
+    expected.sort_unstable();
+    assert_eq!(members, expected);
+    assert!(OPTIONAL_DOCUMENT_MEMBERS < DOCUMENT_MEMBERS.len());
+    let certificate: serde_json::Value =
+        serde_json::from_slice(&std::fs::read(dir.path().join("demo.cert.json")).unwrap()).unwrap();
+    let mut members: Vec<&str> = certificate
+        .as_object()
+        .unwrap()
+        .keys()
+        .map(String::as_str)
+        .collect();
+    members.sort_unstable();
+    expected.push("certificate");
+    expected.sort_unstable();
+    assert_eq!(members, expected);
+}
+
 // ---------------------------------------------------------------------------------
 // Item 2: a planted link never redirects an output.
 
