@@ -54,22 +54,26 @@ pub fn own_report_kind(bytes: &[u8], format: LogFormat) -> Option<&'static str> 
         LogFormat::Tsv => header_names(first_line(bytes), b'\t'),
         LogFormat::Parquet | LogFormat::Arrow => super::preflight::column_names(bytes, format),
     }?;
-    if columns.len() >= FLAT_COLUMNS.len()
-        && columns
-            .iter()
-            .zip(FLAT_COLUMNS)
-            .all(|(column, flat)| column == flat)
-    {
+    if columns.len() >= FLAT_COLUMNS.len() && may_be_own_columns(&columns) {
         Some("a gapcert report of runs")
-    } else if columns
-        .iter()
-        .map(String::as_str)
-        .eq(CLAIM_COLUMNS.iter().copied())
-    {
+    } else if columns.len() == CLAIM_COLUMNS.len() && may_be_own_columns(&columns) {
         Some("a gapcert report of claims")
     } else {
         None
     }
+}
+
+/// Whether `columns` begin the columns of a runs report (gapcert's flat columns, then
+/// any `--keep` columns) or of a claims report: readers stop at the first column that
+/// rules both out, so a long first line of a log is not read to its end.
+fn may_be_own_columns<S: AsRef<str>>(columns: &[S]) -> bool {
+    let begins = |names: &[&str]| {
+        columns
+            .iter()
+            .zip(names)
+            .all(|(column, name)| column.as_ref() == *name)
+    };
+    begins(FLAT_COLUMNS) || (columns.len() <= CLAIM_COLUMNS.len() && begins(CLAIM_COLUMNS))
 }
 
 /// The bytes before the first line end.
@@ -86,15 +90,16 @@ fn first_line(bytes: &[u8]) -> &[u8] {
 fn header_names(line: &[u8], separator: u8) -> Option<Vec<String>> {
     let line = line.strip_suffix(b"\r").unwrap_or(line);
     let line = std::str::from_utf8(line).ok()?;
+    // The rest of the line after gapcert's columns is one item: `--keep` columns.
     Some(
-        line.split(char::from(separator))
+        line.splitn(FLAT_COLUMNS.len() + 1, char::from(separator))
             .map(str::to_string)
             .collect(),
     )
 }
 
 /// The keys of the JSON object `line` holds, in their order; None when it holds
-/// anything else.
+/// anything else, or as soon as its keys cannot be gapcert's columns.
 fn json_keys(line: &[u8]) -> Option<Vec<String>> {
     struct Keys(Vec<String>);
     impl<'de> serde::Deserialize<'de> for Keys {
@@ -109,8 +114,11 @@ fn json_keys(line: &[u8]) -> Option<Vec<String>> {
         }
         fn visit_map<A: serde::de::MapAccess<'de>>(mut self, mut map: A) -> Result<Keys, A::Error> {
             while let Some(key) = map.next_key::<String>()? {
-                map.next_value::<serde::de::IgnoredAny>()?;
                 self.0.push(key);
+                if !may_be_own_columns(&self.0) {
+                    return Err(serde::de::Error::custom("not gapcert's columns"));
+                }
+                map.next_value::<serde::de::IgnoredAny>()?;
             }
             Ok(self)
         }
