@@ -18,8 +18,7 @@ use crate::ingest::{hex, InputFile};
 use crate::report::atomic::write_atomically;
 use crate::report::document::{AuditDocument, ToolInfo};
 
-/// Identifies the certificate layout.
-pub const CERTIFICATE_FORMAT: &str = "gapcert-certificate/1";
+pub use crate::report::own_outputs::CERTIFICATE_FORMAT;
 
 /// Relative differences below this are rounding, not drift.
 const NUMERIC_DRIFT_TOLERANCE: f64 = 1e-12;

@@ -129,11 +129,8 @@ pub fn prepare_discovered(
     limits: StreamLimits,
     progress: FileProgress<'_>,
 ) -> Result<PreparedAudit<'static>, Error> {
-    let sources: Vec<LogSource<'static>> = discovery
-        .logs
-        .iter()
-        .map(|log| LogSource::Path(log.path.clone(), log.format))
-        .collect();
+    let sources: Vec<LogSource<'static>> =
+        discovery.logs.iter().map(ingest::LogFile::source).collect();
     let claims: Vec<ClaimsSource<'static>> = settings
         .claims_files
         .iter()

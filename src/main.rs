@@ -12,6 +12,7 @@ mod commands;
 use std::process::ExitCode;
 
 use clap::Parser;
+use gapcert::report::text::printable_lines;
 
 use cli::Cli;
 use commands::Outcome;
@@ -23,7 +24,17 @@ fn main() -> ExitCode {
         Ok(cli) => cli,
         Err(error) => {
             let code = if error.use_stderr() { 2 } else { 0 };
-            let _ = error.print();
+            // An argument echoed back may hold escape sequences (a file name from a
+            // glob): then the message is printed plain, escaped.
+            let plain = error.render().to_string();
+            let escaped = printable_lines(&plain);
+            if escaped == plain {
+                let _ = error.print();
+            } else if error.use_stderr() {
+                eprintln!("{}", escaped.trim_end());
+            } else {
+                println!("{}", escaped.trim_end());
+            }
             return ExitCode::from(code);
         }
     };
@@ -32,7 +43,8 @@ fn main() -> ExitCode {
         Ok(Outcome::Fail) => ExitCode::from(1),
         // Every kind of error (usage, input, I/O) is exit code 2 (SPEC §6).
         Err(error) => {
-            eprintln!("gapcert: {error}");
+            // Messages name files and quote cells: escaped like the table on stdout.
+            eprintln!("gapcert: {}", printable_lines(&error.to_string()));
             ExitCode::from(2)
         }
     }

@@ -93,7 +93,7 @@ pub fn audit(args: &Bound<'_, PyTuple>) -> PyResult<Py<PyAny>> {
                 let mut sources: Vec<LogSource<'_>> = discovery
                     .iter()
                     .flat_map(|d| d.logs.iter())
-                    .map(|log| LogSource::Path(log.path.clone(), log.format))
+                    .map(gapcert::ingest::LogFile::source)
                     .collect();
                 sources.extend(
                     log_frames

@@ -12,7 +12,9 @@ use gapcert::Error;
 
 use super::outcome::Outcome;
 use super::settings::{resolve_audit, AuditRequest};
-use super::terminal::{check_outputs, write_file, write_stdout, Progress, Terminal};
+use super::terminal::{
+    check_outputs, remove_stale_temporaries, write_file, write_stdout, Progress, Terminal,
+};
 use crate::cli::AuditFlags;
 
 /// Where an audit's logs come from.
@@ -63,6 +65,8 @@ pub fn run(spec: &SourceSpec, flags: &AuditFlags, terminal: Terminal) -> Result<
     .chain(reports.iter().map(|(path, _)| ("--report", *path)))
     .collect();
     check_outputs(&outputs, &inputs)?;
+    let output_paths: Vec<&Path> = outputs.iter().map(|(_, path)| *path).collect();
+    remove_stale_temporaries(&output_paths, terminal);
     let spec = match (&discovery, spec) {
         (Some(discovery), _) => Source::Found(discovery),
         (None, _) => Source::Demo,

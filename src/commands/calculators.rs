@@ -6,7 +6,7 @@ use gapcert::Error;
 
 use super::outcome::Outcome;
 use super::settings::simple_format;
-use super::terminal::{print_view, write_file, Terminal};
+use super::terminal::{print_view, remove_stale_temporaries, write_file, Terminal};
 use crate::cli::{FormatArgs, GrowthArgs, PlanHoldoutArgs, PlanReuseArgs, PlanTrainArgs};
 
 /// `gapcert plan holdout`: held-out examples needed to certify a claim at an observed
@@ -48,6 +48,7 @@ pub fn growth(args: &GrowthArgs, terminal: Terminal) -> Result<Outcome, Error> {
     let family = calculators::family(&args.family.family, &args.family.params)?;
     let table = calculators::growth_table(&family, args.upto)?;
     if let Some(path) = &args.svg {
+        remove_stale_temporaries(&[path.as_path()], terminal);
         write_file(path, |out| {
             gapcert::report::charts::write_growth_svg(&family, &table.rows, out)
         })?;

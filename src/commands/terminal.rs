@@ -8,6 +8,7 @@ use std::time::Duration;
 
 use gapcert::error::describe_io_error;
 use gapcert::ingest::FileIdentity;
+use gapcert::report::text::printable;
 use gapcert::report::{self, OutputFormat, View};
 use gapcert::Error;
 use indicatif::{ProgressBar, ProgressDrawTarget, ProgressStyle};
@@ -117,6 +118,33 @@ fn same_destination(a: &Path, b: &Path) -> bool {
     match (resolved(a), resolved(b)) {
         (Some(a), Some(b)) => a == b,
         _ => a == b,
+    }
+}
+
+/// Removes the temporaries that killed audits left in the folders of `outputs`
+/// (`gapcert::report::atomic::remove_stale_temporaries`) and says so on stderr,
+/// unless `--quiet`.
+pub fn remove_stale_temporaries(outputs: &[&Path], terminal: Terminal) {
+    let mut folders: Vec<std::path::PathBuf> = Vec::new();
+    for path in outputs {
+        let folder = match path.parent() {
+            Some(parent) if !parent.as_os_str().is_empty() => parent,
+            _ => Path::new("."),
+        };
+        let folder = std::fs::canonicalize(folder).unwrap_or_else(|_| folder.to_path_buf());
+        if !folders.contains(&folder) {
+            folders.push(folder);
+        }
+    }
+    for folder in folders {
+        let removed = report::atomic::remove_stale_temporaries(&folder);
+        if !removed.is_empty() && !terminal.quiet {
+            eprintln!(
+                "gapcert: removed {} temporary file(s) left by interrupted audits in {}",
+                removed.len(),
+                printable(&folder.display().to_string())
+            );
+        }
     }
 }
 

@@ -44,6 +44,9 @@ pub struct LogFile {
     /// (None where the system has none): an output that would replace an input is
     /// recognised by it, whatever links or spellings lead to either.
     pub identity: Option<FileIdentity>,
+    /// Found walking a folder, not named on the command line: if it is one of
+    /// gapcert's own reports it is left out, where a named one is an error.
+    pub in_folder: bool,
 }
 
 /// Device and inode of a file.
@@ -110,6 +113,7 @@ pub fn discover(paths: &[PathBuf]) -> Result<Discovery, Error> {
                     path: path.clone(),
                     format,
                     identity: FileIdentity::of(&metadata),
+                    in_folder: false,
                 }),
                 None => {
                     return Err(Error::Usage(format!(
@@ -198,6 +202,7 @@ fn walk(
                 path: child,
                 format,
                 identity,
+                in_folder: true,
             });
         } else {
             discovery.skipped_files.push(child);

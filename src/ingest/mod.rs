@@ -45,11 +45,26 @@ pub struct SkippedFile {
 /// Where a log's bytes come from.
 #[derive(Clone, Debug)]
 pub enum LogSource<'a> {
-    /// A local file.
+    /// A local file named as a log: if it is one of gapcert's own reports, that is an
+    /// input error (never a file silently left out of the audit).
     Path(PathBuf, LogFormat),
+    /// A local file found walking a folder: one of gapcert's own reports there (an
+    /// earlier audit's output) is left out and listed as skipped.
+    InFolder(PathBuf, LogFormat),
     /// Bytes already in memory (the demo's compiled-in logs, or a fuzzer's input),
     /// with the label they are reported under.
     Memory(&'a str, &'a [u8], LogFormat),
+}
+
+impl LogFile {
+    /// Where the log's bytes come from, for reading.
+    pub fn source(&self) -> LogSource<'static> {
+        if self.in_folder {
+            LogSource::InFolder(self.path.clone(), self.format)
+        } else {
+            LogSource::Path(self.path.clone(), self.format)
+        }
+    }
 }
 
 /// Told (files read so far, files in all) as each file is read, for a progress bar.
@@ -200,6 +215,15 @@ impl Collected {
     /// one); otherwise both are problems. Returns whether the file's runs are to be
     /// audited.
     pub fn add(&mut self, log: &LogSummary, report: FileReport, lenient: bool) -> bool {
+        if let Some(kind) = log.named_report {
+            // Never skipped, even under --lenient: a log dropped from the gate must
+            // be the user's decision, not a guess about its content.
+            self.problems.push(Problem::file(
+                &log.label,
+                format!("this is {kind}, not a run log; name the logs it was made from instead"),
+            ));
+            return false;
+        }
         if let Some(kind) = log.own_report {
             self.skipped_files.push(SkippedFile {
                 path: log.label.clone(),
@@ -332,6 +356,8 @@ pub struct LogSummary {
     pub rows: usize,
     /// gapcert's own report (left out), and what kind.
     pub own_report: Option<&'static str>,
+    /// gapcert's own report named as a log (an input error), and what kind.
+    pub named_report: Option<&'static str>,
 }
 
 /// One log file opened for an audit: its identity and hash, and its table, which is
@@ -344,6 +370,9 @@ pub struct OpenedLog<'a> {
     /// The file is one of gapcert's own reports (what kind), not a log: it is left
     /// out of the audit.
     pub own_report: Option<&'static str>,
+    /// The file is one of gapcert's own reports (what kind) named as a log: the audit
+    /// fails with an input error saying so, even under `--lenient`.
+    pub named_report: Option<&'static str>,
 }
 
 impl<'a> OpenedLog<'a> {
@@ -354,7 +383,7 @@ impl<'a> OpenedLog<'a> {
         let column_map = &settings.column_map;
         let label = source_label(source);
         let bytes: Cow<'a, [u8]> = match source {
-            LogSource::Path(path, _) => match std::fs::read(path) {
+            LogSource::Path(path, _) | LogSource::InFolder(path, _) => match std::fs::read(path) {
                 Ok(read) => Cow::Owned(read),
                 Err(error) => {
                     let problem = Problem::file(
@@ -366,20 +395,25 @@ impl<'a> OpenedLog<'a> {
                         input: None,
                         table: Err(vec![problem]),
                         own_report: None,
+                        named_report: None,
                     };
                 }
             },
             LogSource::Memory(_, bytes, _) => Cow::Borrowed(*bytes),
         };
         let format = match source {
-            LogSource::Path(_, format) | LogSource::Memory(_, _, format) => *format,
+            LogSource::Path(_, format)
+            | LogSource::InFolder(_, format)
+            | LogSource::Memory(_, _, format) => *format,
         };
         if let Some(kind) = formats::own_report_kind(&bytes, format) {
+            let in_folder = matches!(source, LogSource::InFolder(..));
             return OpenedLog {
                 label,
                 input: None,
                 table: Err(Vec::new()),
-                own_report: Some(kind),
+                own_report: in_folder.then_some(kind),
+                named_report: (!in_folder).then_some(kind),
             };
         }
         // Hash while polars parses: both walk the whole file.
@@ -420,6 +454,7 @@ impl<'a> OpenedLog<'a> {
             label,
             table,
             own_report: None,
+            named_report: None,
         }
     }
 
@@ -435,6 +470,7 @@ impl<'a> OpenedLog<'a> {
             input: self.input.clone(),
             rows: self.rows(),
             own_report: self.own_report,
+            named_report: self.named_report,
         }
     }
 
@@ -529,7 +565,7 @@ impl<'a> OpenedLog<'a> {
 /// The name a source is reported under.
 pub fn source_label(source: &LogSource<'_>) -> String {
     match source {
-        LogSource::Path(path, _) => path.display().to_string(),
+        LogSource::Path(path, _) | LogSource::InFolder(path, _) => path.display().to_string(),
         LogSource::Memory(label, _, _) => label.to_string(),
     }
 }

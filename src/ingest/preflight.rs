@@ -58,6 +58,17 @@ pub(super) fn check(label: &str, bytes: &[u8], format: LogFormat) -> Result<(), 
     })
 }
 
+/// The names of the top-level columns a Parquet or Arrow IPC file declares, read from
+/// its footer with the same bounded decoders as the checks here (nothing is reserved
+/// for a declared size); None when the file has no footer that decodes.
+pub(super) fn column_names(bytes: &[u8], format: LogFormat) -> Option<Vec<String>> {
+    match format {
+        LogFormat::Parquet => parquet_column_names(bytes),
+        LogFormat::Arrow => arrow_column_names(bytes),
+        _ => None,
+    }
+}
+
 /// The Thrift decoder's allocation budget for metadata of `len` bytes: every list element
 /// and string byte it allocates is charged against it, and a valid encoding spends at
 /// least one byte of input per element, so this never refuses valid metadata.
@@ -153,6 +164,38 @@ fn parquet(bytes: &[u8]) -> Result<(), String> {
         }
     }
     Ok(())
+}
+
+/// The Parquet schema's fields directly under its root, in order.
+fn parquet_column_names(bytes: &[u8]) -> Option<Vec<String>> {
+    let size = bytes.len();
+    if size < 12 || !bytes.ends_with(PARQUET_MAGIC) {
+        return None;
+    }
+    let footer_len = u32::from_le_bytes(le4(&bytes[size - 8..size - 4])) as usize;
+    let data_end = (size - 8)
+        .checked_sub(footer_len)
+        .filter(|&start| start >= PARQUET_MAGIC.len())?;
+    let mut footer = &bytes[data_end..size - 8];
+    let mut protocol = TCompactInputProtocol::new(&mut footer, thrift_budget(footer_len));
+    let metadata = FileMetaData::read_from_in_protocol(&mut protocol).ok()?;
+    let (root, fields) = metadata.schema.split_first()?;
+    let mut names = Vec::new();
+    // Open groups: children still to come.
+    let mut open: Vec<i64> = vec![root.num_children.unwrap_or(0).into()];
+    for field in fields {
+        if open.len() == 1 {
+            names.push(field.name.clone());
+        }
+        *open.last_mut()? -= 1;
+        if let Some(children) = field.num_children.filter(|&children| children > 0) {
+            open.push(children.into());
+        }
+        while open.last().is_some_and(|&left| left <= 0) && open.len() > 1 {
+            open.pop();
+        }
+    }
+    Some(names)
 }
 
 /// For each leaf column of the schema, in order, whether it sits under a repeated field
@@ -392,6 +435,24 @@ fn arrow_ipc(bytes: &[u8]) -> Result<(), String> {
         }
     }
     Ok(())
+}
+
+/// The Arrow IPC file's schema fields, in order, from its footer.
+fn arrow_column_names(bytes: &[u8]) -> Option<Vec<String>> {
+    let size = bytes.len();
+    if size < 10 || !bytes.ends_with(ARROW_MAGIC) {
+        return None;
+    }
+    let footer_len = i32::from_le_bytes(le4(&bytes[size - 10..size - 6]));
+    let footer_start = usize::try_from(footer_len)
+        .ok()
+        .and_then(|len| (size - 10).checked_sub(len))?;
+    let footer = FooterRef::read_as_root(&bytes[footer_start..size - 10]).ok()?;
+    let fields = footer.schema().ok()??.fields().ok()??;
+    fields
+        .iter()
+        .map(|field| Some(field.ok()?.name().ok()??.to_string()))
+        .collect()
 }
 
 struct IpcFile<'a> {

@@ -7,6 +7,7 @@ use std::io::{self, Write};
 use std::path::{Path, PathBuf};
 use std::sync::{Arc, Mutex};
 use std::thread::JoinHandle;
+use std::time::{Duration, SystemTime};
 
 /// Temporary files being written right now. The library never handles signals or
 /// ends the process; a program that does (the gapcert binary, on SIGINT, SIGTERM or
@@ -30,13 +31,9 @@ pub fn remove_temporaries() -> usize {
     }
 }
 
-fn track(path: &Path, live: bool) {
+fn untrack(path: &Path) {
     if let Ok(mut list) = LIVE_TEMPORARIES.lock() {
-        if live {
-            list.push(path.to_path_buf());
-        } else {
-            list.retain(|p| p != path);
-        }
+        list.retain(|p| p != path);
     }
 }
 
@@ -293,6 +290,12 @@ fn start_writeback(_: &File, _: u64, _: u64) {}
 
 /// Writes `path` atomically with the bytes `write` produces. On any error the
 /// temporary file is removed and the destination is untouched.
+///
+/// The temporary is `.NAME.gapcert-PID-RANDOM.tmp` in the destination's folder
+/// ([`temporary_name_owner`] reads the PID back), created only if nothing exists
+/// at that name (`O_CREAT|O_EXCL`, and `O_NOFOLLOW`), with a fresh random part on
+/// each try: a link planted in a shared output folder, at any name, is never
+/// followed, so it cannot make the audit write over another file.
 pub fn write_atomically<F>(path: &Path, write: F) -> io::Result<()>
 where
     F: FnOnce(&mut dyn Write) -> io::Result<()>,
@@ -317,20 +320,152 @@ where
         })?
         .to_string_lossy()
         .to_string();
-    let temporary = folder.join(format!(".{file_name}.gapcert-{}.tmp", std::process::id()));
-    track(&temporary, true);
+    // Created and listed under the list's lock: a signal that arrives once the file
+    // exists finds it listed (the handler waits for the lock).
+    let (file, temporary) = {
+        let mut live = LIVE_TEMPORARIES
+            .lock()
+            .unwrap_or_else(std::sync::PoisonError::into_inner);
+        let (file, temporary) = tempfile::Builder::new()
+            .prefix(&format!(
+                ".{file_name}{TEMPORARY_MARK}{}-",
+                std::process::id()
+            ))
+            .suffix(TEMPORARY_SUFFIX)
+            .rand_bytes(TEMPORARY_RANDOM_LENGTH)
+            .make_in(&folder, create_new)?
+            .into_parts();
+        live.push(temporary.to_path_buf());
+        (file, temporary)
+    };
     let result = (|| {
-        let mut file = OutputFile::new(File::create(&temporary)?);
+        let mut file = OutputFile::new(file);
         write(&mut file)?;
         file.finish()?;
         drop(file);
-        fs::rename(&temporary, path)
+        Ok(())
     })();
-    if result.is_err() {
-        let _ = fs::remove_file(&temporary);
-    }
-    track(&temporary, false);
+    let tracked = temporary.to_path_buf();
+    // On failure, dropping `temporary` removes the file.
+    let result = result.and_then(|()| temporary.persist(path).map_err(|error| error.error));
+    untrack(&tracked);
     result
+}
+
+/// `.NAME` + this + `PID-RANDOM` + [`TEMPORARY_SUFFIX`]: gapcert's temporaries.
+const TEMPORARY_MARK: &str = ".gapcert-";
+const TEMPORARY_SUFFIX: &str = ".tmp";
+const TEMPORARY_RANDOM_LENGTH: usize = 8;
+
+/// Creates `path` for writing only if nothing is there, never through a link; with
+/// the permissions `File::create` gives (the umask's), since the file becomes the
+/// output as it is.
+fn create_new(path: &Path) -> io::Result<File> {
+    let mut options = fs::OpenOptions::new();
+    options.write(true).create_new(true);
+    #[cfg(unix)]
+    {
+        use std::os::unix::fs::OpenOptionsExt;
+        options.custom_flags(libc::O_NOFOLLOW);
+    }
+    options.open(path)
+}
+
+/// The process that wrote the temporary named `name`, if `name` is one of gapcert's
+/// temporaries: `.NAME.gapcert-PID-RANDOM.tmp`, or `.NAME.gapcert-PID.tmp` as
+/// earlier versions named them (no random part). Anything else is None.
+pub fn temporary_name_owner(name: &str) -> Option<u32> {
+    let inner = name.strip_prefix('.')?.strip_suffix(TEMPORARY_SUFFIX)?;
+    let (output, tail) = inner.rsplit_once(TEMPORARY_MARK)?;
+    if output.is_empty() {
+        return None;
+    }
+    let (pid, random) = match tail.split_once('-') {
+        Some((pid, random)) => (pid, Some(random)),
+        None => (tail, None),
+    };
+    let random_is_ours = random.map_or(true, |random| {
+        (1..=32).contains(&random.len()) && random.bytes().all(|b| b.is_ascii_alphanumeric())
+    });
+    let pid_is_digits =
+        !pid.is_empty() && pid.len() <= 10 && pid.bytes().all(|b| b.is_ascii_digit());
+    if !random_is_ours || !pid_is_digits {
+        return None;
+    }
+    pid.parse().ok()
+}
+
+/// A temporary written to within this long is left alone whoever wrote it: an audit
+/// in another PID namespace (a container sharing the folder) is not visible in
+/// `/proc`, and while it is alive it writes its temporary steadily.
+const RECENTLY_WRITTEN: Duration = Duration::from_secs(60);
+
+/// How old a temporary must be to be removed when no process table tells whether
+/// its writer is alive.
+const ABANDONED_AFTER: Duration = Duration::from_secs(24 * 60 * 60);
+
+/// Removes gapcert's temporaries in `folder` that audits ended without removing
+/// (killed with `SIGKILL`, or the machine stopped), and returns their paths; the
+/// library never prints, so the caller says so. Only files named like gapcert's
+/// temporaries ([`temporary_name_owner`]) that are regular files (not links), owned
+/// by the current user and not written to in the last minute are considered; such a
+/// file is removed when its writer's process is gone (no `/proc/PID`), or, where
+/// there is no `/proc` to tell, when it is more than a day old. Errors (a folder that
+/// cannot be listed, a file removed meanwhile) are ignored: this is housekeeping.
+pub fn remove_stale_temporaries(folder: &Path) -> Vec<PathBuf> {
+    let Ok(entries) = fs::read_dir(folder) else {
+        return Vec::new();
+    };
+    let processes_visible = Path::new("/proc/self").exists();
+    let now = SystemTime::now();
+    let mut removed = Vec::new();
+    for entry in entries.filter_map(Result::ok) {
+        let name = entry.file_name();
+        let Some(pid) = name.to_str().and_then(temporary_name_owner) else {
+            continue;
+        };
+        if pid == std::process::id() {
+            continue;
+        }
+        let path = entry.path();
+        // Not followed: a link at a temporary's name is not gapcert's.
+        let Ok(metadata) = fs::symlink_metadata(&path) else {
+            continue;
+        };
+        if !metadata.file_type().is_file() || !owned_by_current_user(&metadata) {
+            continue;
+        }
+        let age = metadata
+            .modified()
+            .ok()
+            .and_then(|modified| now.duration_since(modified).ok())
+            .unwrap_or(Duration::ZERO);
+        if age < RECENTLY_WRITTEN {
+            continue;
+        }
+        let abandoned = if processes_visible {
+            !Path::new("/proc").join(pid.to_string()).exists()
+        } else {
+            age > ABANDONED_AFTER
+        };
+        if abandoned && fs::remove_file(&path).is_ok() {
+            removed.push(path);
+        }
+    }
+    removed.sort();
+    removed
+}
+
+#[cfg(unix)]
+fn owned_by_current_user(metadata: &fs::Metadata) -> bool {
+    use std::os::unix::fs::MetadataExt;
+    // SAFETY: geteuid has no preconditions and cannot fail.
+    metadata.uid() == unsafe { libc::geteuid() }
+}
+
+#[cfg(not(unix))]
+fn owned_by_current_user(_: &fs::Metadata) -> bool {
+    false
 }
 
 #[cfg(test)]

@@ -13,26 +13,7 @@ use crate::audit::claims::ClaimResult;
 use crate::audit::Verdict;
 use crate::decimal::push_percent;
 
-/// The flat claim columns, in output order (the JSON document's claim fields).
-pub const CLAIM_COLUMNS: &[&str] = &[
-    "claim",
-    "source",
-    "statement",
-    "kind",
-    "run",
-    "baseline",
-    "value",
-    "runs_matched",
-    "method",
-    "delta",
-    "lower",
-    "upper",
-    "threshold",
-    "mcnemar_p",
-    "verdict",
-    "holdout_needed",
-    "evidence",
-];
+pub use super::own_outputs::CLAIM_COLUMNS;
 
 /// Writes the claims flat in `format` (JSON lines, CSV or Parquet).
 pub fn write_claims(

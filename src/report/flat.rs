@@ -9,46 +9,7 @@ use serde::Serialize;
 
 use crate::audit::RunResult;
 
-/// The flat column names, in output order: every column, [`EXPLANATION`] included;
-/// without `--explain` the flat formats leave that one out (see [`columns`]).
-pub const FLAT_COLUMNS: &[&str] = &[
-    "run",
-    "source",
-    "family",
-    "train_n",
-    "train_error_rate",
-    "holdout_n",
-    "holdout_error_rate",
-    "holdout_misclassified",
-    "holdout_set",
-    "candidates",
-    "delta",
-    "hoeffding_interval_lo",
-    "hoeffding_interval_hi",
-    "binomial_interval_lo",
-    "binomial_interval_hi",
-    "error_upper_bound",
-    "error_lower_bound",
-    "certifiable_accuracy",
-    "vc_dim",
-    "growth_ln",
-    "vc_allowance",
-    "vc_bound",
-    "observed_gap",
-    "certified_gap_max",
-    "claim_error_rate",
-    "verdict",
-    "explanation",
-    "holdout_needed",
-    "train_needed",
-    "findings",
-    "logged_at",
-    "copies",
-];
-
-/// The column of the verdict's sentence, written only with `--explain`: it restates
-/// fields a program already has, and at a million runs it is a sixth of the bytes.
-pub const EXPLANATION: &str = "explanation";
+pub use super::own_outputs::{EXPLANATION, FLAT_COLUMNS};
 
 /// The flat columns written, in order: [`FLAT_COLUMNS`], less [`EXPLANATION`]
 /// unless `explain`.

@@ -12,6 +12,7 @@ pub mod format;
 pub mod html;
 pub mod junit;
 pub mod markdown;
+pub mod own_outputs;
 pub mod splits;
 pub mod table;
 pub mod text;

@@ -220,4 +220,14 @@ pub fn printable(text: &str) -> String {
         .collect()
 }
 
+/// [`printable`] line by line, for messages on stderr: a message of several lines (an
+/// error listing every problem) keeps its line breaks, and no escape sequence from a
+/// log cell or a file name reaches the terminal.
+pub fn printable_lines(text: &str) -> String {
+    text.split('\n')
+        .map(printable)
+        .collect::<Vec<_>>()
+        .join("\n")
+}
+
 pub use crate::decimal::group_thousands;

@@ -12,6 +12,7 @@ mod comparison_coverage;
 mod folders;
 mod fuzz_regressions;
 mod guards;
+mod hostile;
 mod html_report;
 mod junit;
 mod layout;

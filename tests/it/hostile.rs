@@ -1,0 +1,489 @@
+//! Hostile files (issue 24, items 1, 2, 3 and 8): a log's content cannot drop it from
+//! the gate, a link planted in an output folder is never followed, temporaries of
+//! killed audits are removed by the next audit, and no escape sequence reaches the
+//! terminal through an error message. Every file is generated in a temporary
+//! directory; the runs in them are invented. Each test failed on the build before
+//! (`GAPCERT_BIN=<older gapcert> cargo test --release --test it hostile`).
+
+use std::path::{Path, PathBuf};
+use std::process::{Command, Output};
+use std::time::{Duration, SystemTime};
+
+use crate::common::{binary, root};
+
+/// Runs gapcert in `dir`.
+fn run_in(dir: &Path, args: &[&str]) -> Output {
+    Command::new(binary())
+        .args(args)
+        .current_dir(dir)
+        .env("NO_COLOR", "1")
+        .env("COLUMNS", "200")
+        .output()
+        .expect("run gapcert")
+}
+
+fn text(bytes: &[u8]) -> String {
+    String::from_utf8_lossy(bytes).to_string()
+}
+
+fn write(dir: &Path, name: &str, contents: &str) -> PathBuf {
+    let path = dir.join(name);
+    std::fs::create_dir_all(path.parent().unwrap()).unwrap();
+    std::fs::write(&path, contents).unwrap();
+    path
+}
+
+/// A run whose claim (99 %) its held-out errors (100 of 1,000) refute: any audit
+/// that reads it fails the gate.
+const FAILING_RUN: &str = r#"{"run":"hx-refuted","holdout_n":1000,"holdout_misclassified":100,"claimed_accuracy":0.99,"notes":"compare verdict, explanation, error_upper_bound and certifiable_accuracy with last week"}"#;
+
+/// A run that passes: 5 errors in 20,000, claimed 90 %.
+const PASSING_LOG: &str =
+    "run,holdout_n,holdout_misclassified,claimed_accuracy\nhx-fine,20000,5,0.9\n";
+
+// ---------------------------------------------------------------------------------
+// Item 1: a log is never dropped from the gate by its content.
+
+#[test]
+fn a_log_whose_notes_name_report_columns_is_audited() {
+    let dir = tempfile::tempdir().unwrap();
+    write(dir.path(), "exp/fine.csv", PASSING_LOG);
+    write(dir.path(), "exp/refuted.jsonl", &format!("{FAILING_RUN}\n"));
+    for target in ["exp", "exp/refuted.jsonl"] {
+        let output = run_in(dir.path(), &["audit", target, "--format", "json"]);
+        assert_eq!(
+            output.status.code(),
+            Some(1),
+            "{target}: the refuted run must fail the gate: {}",
+            text(&output.stderr)
+        );
+        let doc: serde_json::Value = serde_json::from_slice(&output.stdout).unwrap();
+        let runs = doc["runs"].as_array().unwrap();
+        assert!(
+            runs.iter().any(|run| run["run"] == "hx-refuted"),
+            "{target}: {doc}"
+        );
+        assert!(
+            doc["skipped_files"].as_array().unwrap().is_empty(),
+            "{target}: {}",
+            doc["skipped_files"]
+        );
+    }
+    // A CSV log with the same words in its header's neighbourhood is audited too.
+    write(
+        dir.path(),
+        "csv/refuted.csv",
+        "run,holdout_n,holdout_misclassified,claimed_accuracy,verdict,explanation,error_upper_bound,certifiable_accuracy\nhx-refuted,1000,100,0.99,ok,fine,0.01,0.99\n",
+    );
+    let output = run_in(dir.path(), &["audit", "csv"]);
+    assert_eq!(output.status.code(), Some(1), "{}", text(&output.stderr));
+}
+
+#[test]
+fn a_report_named_on_the_command_line_is_an_input_error() {
+    let dir = tempfile::tempdir().unwrap();
+    std::fs::copy(
+        root().join("fixtures/demo/runs.csv"),
+        dir.path().join("runs.csv"),
+    )
+    .unwrap();
+    for (report, flags) in [
+        ("audit.csv", &[][..]),
+        ("audit.ndjson", &[][..]),
+        ("audit.json", &[][..]),
+        ("audit.parquet", &[][..]),
+        ("audit.cert.json", &["--certificate"][..]),
+    ] {
+        let mut args = vec!["audit", "runs.csv", "--gate", "never"];
+        if flags.is_empty() {
+            args.extend(["-o", report]);
+        } else {
+            args.extend([flags[0], report]);
+        }
+        let output = run_in(dir.path(), &args);
+        assert_eq!(output.status.code(), Some(0), "{}", text(&output.stderr));
+        for lenient in [false, true] {
+            let mut args = vec!["audit", "runs.csv", report, "--gate", "never"];
+            if lenient {
+                args.push("--lenient");
+            }
+            let output = run_in(dir.path(), &args);
+            let err = text(&output.stderr);
+            assert_eq!(output.status.code(), Some(2), "{report}: {err}");
+            assert!(
+                err.contains(report) && err.contains("gapcert") && err.contains("not a run log"),
+                "{report}: {err}"
+            );
+        }
+    }
+}
+
+#[test]
+fn claims_reports_in_a_folder_are_still_left_out() {
+    let dir = tempfile::tempdir().unwrap();
+    let exp = dir.path().join("exp");
+    std::fs::create_dir_all(&exp).unwrap();
+    std::fs::copy(root().join("fixtures/demo/runs.csv"), exp.join("runs.csv")).unwrap();
+    std::fs::copy(
+        root().join("fixtures/demo/claims.csv"),
+        dir.path().join("claims.csv"),
+    )
+    .unwrap();
+    for name in ["claims.csv", "claims.ndjson", "claims.parquet"] {
+        let output = run_in(
+            dir.path(),
+            &[
+                "audit",
+                "exp",
+                "--claims",
+                "claims.csv",
+                "--gate",
+                "never",
+                "--claims-output",
+                &format!("exp/out-{name}"),
+            ],
+        );
+        assert_eq!(output.status.code(), Some(0), "{}", text(&output.stderr));
+    }
+    // Runs reports with --keep columns after gapcert's own.
+    for name in ["kept.csv", "kept.ndjson", "kept.parquet"] {
+        let output = run_in(
+            dir.path(),
+            &[
+                "audit",
+                "exp",
+                "--keep",
+                "notes,dim",
+                "--gate",
+                "never",
+                "-o",
+                &format!("exp/{name}"),
+            ],
+        );
+        assert_eq!(output.status.code(), Some(0), "{}", text(&output.stderr));
+    }
+    let output = run_in(
+        dir.path(),
+        &["audit", "exp", "-v", "--gate", "never", "--format", "json"],
+    );
+    let err = text(&output.stderr);
+    assert_eq!(output.status.code(), Some(0), "{err}");
+    let doc: serde_json::Value = serde_json::from_slice(&output.stdout).unwrap();
+    assert_eq!(doc["summary"]["runs"], 21, "only runs.csv is read");
+    for name in ["claims.csv", "claims.ndjson", "claims.parquet"] {
+        assert!(
+            err.contains(&format!("exp/out-{name}: a gapcert report of claims")),
+            "{name}: {err}"
+        );
+    }
+    for name in ["kept.csv", "kept.ndjson", "kept.parquet"] {
+        assert!(
+            err.contains(&format!("exp/{name}: a gapcert report of runs")),
+            "{name}: {err}"
+        );
+    }
+}
+
+/// The members gapcert's JSON documents are recognised by are those it writes (a
+/// list that must agree with the writer, checked rather than trusted).
+#[test]
+fn the_document_members_recognised_are_those_written() {
+    use gapcert::report::own_outputs::{DOCUMENT_MEMBERS, OPTIONAL_DOCUMENT_MEMBERS};
+    let dir = tempfile::tempdir().unwrap();
+    let output = run_in(
+        dir.path(),
+        &[
+            "demo",
+            "--format",
+            "json",
+            "--certificate",
+            "demo.cert.json",
+        ],
+    );
+    assert_eq!(output.status.code(), Some(0), "{}", text(&output.stderr));
+    let doc: serde_json::Value = serde_json::from_slice(&output.stdout).unwrap();
+    let mut members: Vec<&str> = doc
+        .as_object()
+        .unwrap()
+        .keys()
+        .map(String::as_str)
+        .collect();
+    members.sort_unstable();
+    let mut expected = DOCUMENT_MEMBERS.to_vec();
+    expected.sort_unstable();
+    assert_eq!(members, expected);
+    assert!(OPTIONAL_DOCUMENT_MEMBERS < DOCUMENT_MEMBERS.len());
+    let certificate: serde_json::Value =
+        serde_json::from_slice(&std::fs::read(dir.path().join("demo.cert.json")).unwrap()).unwrap();
+    let mut members: Vec<&str> = certificate
+        .as_object()
+        .unwrap()
+        .keys()
+        .map(String::as_str)
+        .collect();
+    members.sort_unstable();
+    expected.push("certificate");
+    expected.sort_unstable();
+    assert_eq!(members, expected);
+}
+
+// ---------------------------------------------------------------------------------
+// Item 2: a planted link never redirects an output.
+
+/// The PID the kernel gave last (in this PID namespace).
+fn last_pid() -> u32 {
+    std::fs::read_to_string("/proc/sys/kernel/ns_last_pid")
+        .ok()
+        .and_then(|text| text.trim().parse().ok())
+        .unwrap_or_else(std::process::id)
+}
+
+#[test]
+fn links_planted_at_temporary_names_are_never_followed() {
+    let dir = tempfile::tempdir().unwrap();
+    let log = write(dir.path(), "runs.csv", PASSING_LOG);
+    let victim = write(dir.path(), "victim.txt", "not to be overwritten\n");
+    let out = dir.path().join("out");
+    std::fs::create_dir_all(&out).unwrap();
+    // Links at the names the next few hundred processes would have used.
+    let next = last_pid();
+    let mut planted = Vec::new();
+    for pid in next + 1..next + 400 {
+        for target in [&victim, &log] {
+            let link = out.join(format!(".audit.csv.gapcert-{pid}.tmp"));
+            if std::os::unix::fs::symlink(target, &link).is_ok() {
+                planted.push((link, target.clone()));
+            }
+        }
+    }
+    let output = run_in(
+        dir.path(),
+        &[
+            "audit",
+            "runs.csv",
+            "-o",
+            "out/audit.csv",
+            "--gate",
+            "never",
+        ],
+    );
+    assert_eq!(output.status.code(), Some(0), "{}", text(&output.stderr));
+    assert_eq!(
+        std::fs::read_to_string(&victim).unwrap(),
+        "not to be overwritten\n"
+    );
+    assert_eq!(std::fs::read_to_string(&log).unwrap(), PASSING_LOG);
+    let written = out.join("audit.csv");
+    let metadata = std::fs::symlink_metadata(&written).unwrap();
+    assert!(metadata.file_type().is_file(), "{metadata:?}");
+    assert!(std::fs::read_to_string(&written)
+        .unwrap()
+        .starts_with("run,source,"));
+    for (link, target) in planted {
+        assert_eq!(std::fs::read_link(&link).unwrap(), target, "{link:?}");
+    }
+}
+
+#[test]
+fn the_temporary_has_a_random_name_naming_its_process() {
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("out.bin");
+    let mut seen = Vec::new();
+    for _ in 0..2 {
+        gapcert::report::write_atomically(&path, |out| {
+            let entries: Vec<String> = std::fs::read_dir(dir.path())
+                .unwrap()
+                .map(|entry| entry.unwrap().file_name().to_string_lossy().to_string())
+                .filter(|name| name.starts_with(".out.bin."))
+                .collect();
+            assert_eq!(entries.len(), 1, "{entries:?}");
+            let name = &entries[0];
+            assert_eq!(
+                gapcert::report::atomic::temporary_name_owner(name),
+                Some(std::process::id()),
+                "{name}"
+            );
+            let prefix = format!(".out.bin.gapcert-{}-", std::process::id());
+            let random = name
+                .strip_prefix(&prefix)
+                .and_then(|rest| rest.strip_suffix(".tmp"))
+                .unwrap_or_else(|| panic!("{name}"));
+            assert!(random.len() >= 6, "{name}");
+            seen.push(name.clone());
+            out.write_all(b"written")
+        })
+        .unwrap();
+    }
+    assert_ne!(seen[0], seen[1], "each temporary gets a fresh name");
+    assert_eq!(std::fs::read(&path).unwrap(), b"written");
+    let left: Vec<_> = std::fs::read_dir(dir.path()).unwrap().collect();
+    assert_eq!(left.len(), 1, "no temporary is left behind");
+}
+
+// ---------------------------------------------------------------------------------
+// Item 3: temporaries of killed audits are removed by the next audit.
+
+/// A PID above the kernel's largest (2^22), so never a live process.
+const DEAD_PID: u32 = 4_194_999;
+
+fn backdate(path: &Path, age: Duration) {
+    let file = std::fs::OpenOptions::new().write(true).open(path).unwrap();
+    file.set_modified(SystemTime::now() - age).unwrap();
+}
+
+#[test]
+fn temporaries_of_killed_audits_are_removed_by_the_next_audit() {
+    let dir = tempfile::tempdir().unwrap();
+    write(dir.path(), "runs.csv", PASSING_LOG);
+    let out = dir.path().join("out");
+    let hour = Duration::from_secs(3600);
+    // A process that has ended: its PID is gone from /proc (unless reused at once).
+    let mut child = Command::new("true").spawn().unwrap();
+    let ended = child.id();
+    child.wait().unwrap();
+    let dead = [
+        format!(".audit.csv.gapcert-{DEAD_PID}-Ab3dEf9h.tmp"),
+        format!(".other.parquet.gapcert-{ended}-zZ09azAZ.tmp"),
+        // As earlier versions named them.
+        format!(".audit.csv.gapcert-{DEAD_PID}.tmp"),
+    ];
+    let alive = format!(".audit.csv.gapcert-{}-Ab3dEf9h.tmp", std::process::id());
+    let kept = [
+        alive.clone(),
+        // Not gapcert's names.
+        format!(".audit.csv.other-{DEAD_PID}-Ab3dEf9h.tmp"),
+        format!("audit.csv.gapcert-{DEAD_PID}-Ab3dEf9h.tmp"),
+        format!(".audit.csv.gapcert-{DEAD_PID}-Ab3d.Ef9h.tmp"),
+        format!(".audit.csv.gapcert-x{DEAD_PID}-Ab3dEf9h.tmp"),
+        "notes.tmp".to_string(),
+    ];
+    for name in dead.iter().chain(&kept) {
+        write(&out, name, "partial output");
+        backdate(&out.join(name), hour);
+    }
+    // A dead writer's temporary written to a moment ago is left for a minute (a
+    // writer in another PID namespace may still be at it).
+    let recent = format!(".recent.csv.gapcert-{DEAD_PID}-Ab3dEf9h.tmp");
+    write(&out, &recent, "partial output");
+    // A link at a gapcert name is not gapcert's: neither it nor its target goes.
+    let target = write(dir.path(), "target.txt", "keep me");
+    let link = out.join(format!(".link.csv.gapcert-{DEAD_PID}-Ab3dEf9h.tmp"));
+    std::os::unix::fs::symlink(&target, &link).unwrap();
+
+    let output = run_in(
+        dir.path(),
+        &[
+            "audit",
+            "runs.csv",
+            "-o",
+            "out/audit.csv",
+            "--gate",
+            "never",
+        ],
+    );
+    let err = text(&output.stderr);
+    assert_eq!(output.status.code(), Some(0), "{err}");
+    for name in &dead {
+        assert!(!out.join(name).exists(), "{name} should be removed");
+    }
+    for name in kept.iter().chain([&recent]) {
+        assert!(out.join(name).exists(), "{name} should stay");
+    }
+    assert!(std::fs::symlink_metadata(&link).is_ok());
+    assert_eq!(std::fs::read_to_string(&target).unwrap(), "keep me");
+    assert!(
+        err.contains("removed 3 temporary file(s) left by interrupted audits in")
+            && err.contains("out"),
+        "{err}"
+    );
+    // Nothing left to remove: nothing said.
+    let output = run_in(
+        dir.path(),
+        &[
+            "audit",
+            "runs.csv",
+            "-o",
+            "out/audit.csv",
+            "--gate",
+            "never",
+        ],
+    );
+    assert!(
+        !text(&output.stderr).contains("removed"),
+        "{}",
+        text(&output.stderr)
+    );
+}
+
+#[test]
+fn temporary_names_are_recognised_exactly() {
+    use gapcert::report::atomic::temporary_name_owner as owner;
+    assert_eq!(owner(".a.csv.gapcert-123-AbC09x.tmp"), Some(123));
+    assert_eq!(owner(".a.csv.gapcert-123.tmp"), Some(123));
+    assert_eq!(owner(".x.gapcert-1.csv.gapcert-77-q.tmp"), Some(77));
+    for name in [
+        "a.csv.gapcert-123-AbC09x.tmp",
+        ".a.csv.gapcert-123-AbC09x.tmpx",
+        ".a.csv.gapcert--AbC09x.tmp",
+        ".a.csv.gapcert-12a-AbC09x.tmp",
+        ".a.csv.gapcert-123-Ab/C.tmp",
+        ".a.csv.gapcert-123-.tmp",
+        "..gapcert-123-AbC09x.tmp",
+        ".a.csv.gapcert-99999999999-AbC09x.tmp",
+    ] {
+        assert_eq!(owner(name), None, "{name}");
+    }
+}
+
+// ---------------------------------------------------------------------------------
+// Item 8: escape sequences in file names and cells never reach the terminal.
+
+/// Control characters a terminal acts on: ESC (CSI, OSC 8 links), BEL, and the
+/// 8-bit CSI.
+fn has_terminal_controls(text: &str) -> bool {
+    text.chars().any(|c| c.is_control() && c != '\n')
+}
+
+#[test]
+fn error_messages_escape_terminal_sequences() {
+    let dir = tempfile::tempdir().unwrap();
+    let hostile_name =
+        "runs\u{1b}]8;;https://example.invalid/\u{7}click\u{1b}]8;;\u{7}\u{1b}[2J.csv";
+    // A file name with an OSC 8 link and a screen clear, holding a bad cell with a
+    // colour sequence.
+    write(
+        dir.path(),
+        hostile_name,
+        "run,holdout_n,holdout_misclassified,claimed_accuracy\nhx\u{1b}[31mred,many\u{1b}[5m,3,0.9\n",
+    );
+    let output = run_in(dir.path(), &["audit", hostile_name]);
+    let err = text(&output.stderr);
+    assert_eq!(output.status.code(), Some(2), "{err}");
+    assert!(!has_terminal_controls(&err), "{err:?}");
+    assert!(err.contains('\u{FFFD}'), "{err:?}");
+    assert!(err.contains("holdout_n"), "{err:?}");
+
+    // A claims file whose cell names a run that does not exist.
+    write(dir.path(), "runs.csv", PASSING_LOG);
+    write(
+        dir.path(),
+        "claims.csv",
+        "claim,kind,run,value\nc\u{1b}[1m1,accuracy,hx\u{1b}]8;;http://x\u{7}nope,0.9\n",
+    );
+    let output = run_in(dir.path(), &["audit", "runs.csv", "--claims", "claims.csv"]);
+    let err = text(&output.stderr);
+    assert_eq!(output.status.code(), Some(2), "{err}");
+    assert!(!has_terminal_controls(&err), "{err:?}");
+
+    // A path that does not exist, and an argument clap echoes back.
+    let missing = "missing\u{1b}[2J.csv";
+    let output = run_in(dir.path(), &["audit", missing]);
+    let err = text(&output.stderr);
+    assert_eq!(output.status.code(), Some(2), "{err}");
+    assert!(!has_terminal_controls(&err), "{err:?}");
+    assert!(err.contains("missing\u{FFFD}[2J.csv"), "{err:?}");
+    let output = run_in(dir.path(), &["audit", "runs.csv", "--gate", "x\u{1b}[2J"]);
+    let err = text(&output.stderr);
+    assert_eq!(output.status.code(), Some(2), "{err}");
+    assert!(!has_terminal_controls(&err), "{err:?}");
+}
