@@ -36,7 +36,7 @@ use crate::ingest::{
     SkippedFile, SkippedRow,
 };
 use crate::report::document::{AuditDocument, DocumentSettings, ToolInfo, CAUTIONS};
-use crate::run::{RowDecisions, RunInput, RunKey};
+use crate::run::{IdKey, RowDecisions, RunInput};
 
 /// Batch sizes of the streaming audit.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
@@ -51,7 +51,7 @@ pub struct StreamLimits {
 impl Default for StreamLimits {
     fn default() -> Self {
         StreamLimits {
-            batch_rows: 1 << 16,
+            batch_rows: 1 << 15,
             hold_runs: 2_000_000,
         }
     }
@@ -102,12 +102,12 @@ struct FirstPass {
     runs: usize,
     held: Option<Vec<Vec<RunInput>>>,
     /// Keys of the runs not held (log index 0: set when the logs are merged).
-    keys: Vec<RunKey>,
+    keys: Vec<IdKey>,
 }
 
-/// The keys of runs (of log 0) for setting aside copies in a stream.
-fn keys_of(runs: &[RunInput]) -> impl Iterator<Item = RunKey> + '_ {
-    runs.iter().filter_map(|run| RunKey::of(run, 0))
+/// The keys of runs (of log 0) for finding copies in a stream.
+fn keys_of(runs: &[RunInput]) -> impl Iterator<Item = IdKey> + '_ {
+    runs.iter().filter_map(|run| IdKey::of(run, 0))
 }
 
 /// The first pass over the logs found at `paths` (files or folders), with the claims
@@ -244,7 +244,7 @@ fn first_pass<'a>(
     let mut held: Option<Vec<Vec<RunInput>>> = Some(Vec::new());
     let mut runs = 0;
     let keep_all = held_runs.load(Ordering::Relaxed) <= limits.hold_runs;
-    let mut keys: Vec<RunKey> = Vec::new();
+    let mut keys: Vec<IdKey> = Vec::new();
     for (index, (summary, mut pass)) in summaries.iter().zip(passes).enumerate() {
         let use_log = collected.add(summary, pass.report, settings.lenient);
         usable.push(use_log);
@@ -258,7 +258,7 @@ fn first_pass<'a>(
                 pass.keys.extend(keys_of(&batch));
             }
             let log = u32::try_from(index).unwrap_or(u32::MAX);
-            keys.extend(pass.keys.into_iter().map(|key| RunKey { log, ..key }));
+            keys.extend(pass.keys.into_iter().map(|key| IdKey { log, ..key }));
         }
         match (&mut held, pass.held) {
             (Some(all), Some(batches)) if keep_all => {
@@ -284,9 +284,33 @@ fn first_pass<'a>(
     let mut copies_set_aside = collected.copies_set_aside;
     let mut stream_copies = std::collections::BTreeMap::new();
     if held.is_none() {
-        // Too many runs to hold: copies are found by key, and the scope is counted
-        // again without them (a third reading, only when there are any).
-        let (decisions, set_aside) = crate::run::copies_among_keys(keys);
+        // Too many runs to hold: the runs whose identifier hash repeats (usually none)
+        // are read again and compared, and the scope is counted again without the
+        // copies (a third reading, only when there are any).
+        let repeated = crate::run::repeated_ids(keys);
+        let mut candidates: Vec<((u32, u64), RunInput)> = Vec::new();
+        if !repeated.is_empty() {
+            reread(
+                &logs,
+                &usable,
+                settings,
+                limits,
+                &ingest::FileCopies::default(),
+                &std::collections::BTreeMap::new(),
+                &mut |log, batch| {
+                    for run in batch {
+                        if let Some(key) = IdKey::of(&run, log) {
+                            if repeated.binary_search(&(log, key.row)).is_ok() {
+                                candidates.push(((log, key.row), run));
+                            }
+                        }
+                    }
+                    true
+                },
+            );
+        }
+        let (decisions, set_aside) = crate::run::decide_copies(&candidates);
+        drop(candidates);
         stream_copies = decisions;
         if set_aside > 0 {
             copies_set_aside += set_aside;
@@ -299,7 +323,7 @@ fn first_pass<'a>(
                 limits,
                 &ingest::FileCopies::default(),
                 &stream_copies,
-                &mut |batch| {
+                &mut |_, batch| {
                     for run in &batch {
                         scope.observe(run);
                     }
@@ -383,8 +407,9 @@ impl ClaimNames {
 }
 
 /// Reads the usable logs again, batch by batch in input order, with copies named and
-/// set aside as the first pass decided, handing each non-empty batch to `each` until
-/// it returns false (a log whose table was dropped is opened again).
+/// set aside as the first pass decided, handing each non-empty batch (and the index
+/// of its log) to `each` until it returns false (a log whose table was dropped is
+/// opened again).
 fn reread(
     logs: &[PassedLog<'_>],
     usable: &[bool],
@@ -392,7 +417,7 @@ fn reread(
     limits: StreamLimits,
     file_copies: &ingest::FileCopies,
     stream_copies: &std::collections::BTreeMap<u32, RowDecisions>,
-    each: &mut dyn FnMut(Vec<RunInput>) -> bool,
+    each: &mut dyn FnMut(u32, Vec<RunInput>) -> bool,
 ) {
     let labels: Vec<String> = logs
         .iter()
@@ -430,7 +455,7 @@ fn reread(
                     return true;
                 }
             }
-            stopped = !each(batch) || settings.cancel.is_cancelled();
+            stopped = !each(index as u32, batch) || settings.cancel.is_cancelled();
             !stopped
         });
         if stopped {
@@ -487,26 +512,16 @@ impl PreparedAudit<'_> {
     fn named_runs(&self) -> Result<Vec<RunInput>, Error> {
         let names = ClaimNames::of(&self.claims.claims);
         let mut named = Vec::new();
-        let mut pick = |batch: Vec<RunInput>| {
-            let mut keep: Vec<bool> = Vec::new();
-            batch
+        let mut pick = |batch: &[RunInput]| {
+            let picked: Vec<RunInput> = batch
                 .par_iter()
-                .map(|run| names.names(&run.run))
-                .collect_into_vec(&mut keep);
-            named.extend(
-                batch
-                    .into_iter()
-                    .zip(keep)
-                    .filter_map(|(run, keep)| keep.then_some(run)),
-            );
-            true
+                .filter(|run| names.names(&run.run))
+                .cloned()
+                .collect();
+            named.extend(picked);
         };
         match &self.held {
-            Some(batches) => {
-                for batch in batches {
-                    pick(batch.clone());
-                }
-            }
+            Some(batches) => batches.iter().for_each(|batch| pick(batch)),
             None => reread(
                 &self.logs,
                 &self.usable,
@@ -514,7 +529,10 @@ impl PreparedAudit<'_> {
                 self.limits,
                 &self.file_copies,
                 &self.stream_copies,
-                &mut pick,
+                &mut |_, batch| {
+                    pick(&batch);
+                    true
+                },
             ),
         }
         if self.settings.cancel.is_cancelled() {
@@ -667,7 +685,7 @@ impl PreparedAudit<'_> {
                     limits,
                     &file_copies,
                     &stream_copies,
-                    &mut |batch| inputs_out.send(batch).is_ok(),
+                    &mut |_, batch| inputs_out.send(batch).is_ok(),
                 ),
             });
             let auditor = &auditor;

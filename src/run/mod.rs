@@ -6,12 +6,12 @@
 //!
 //! `input` holds the run itself ([`RunInput`]); `copies` finds runs read twice (a
 //! log copied into the folder, a row repeated) and sets them aside, in memory or
-//! from hashed keys when the stream is too long to hold.
+//! in a stream too long to hold.
 
 mod copies;
 mod input;
 
 pub use copies::{
-    copies_among_keys, set_aside_copies, set_aside_copies_in_batches, RowDecisions, RunKey,
+    decide_copies, repeated_ids, set_aside_copies, set_aside_copies_in_batches, IdKey, RowDecisions,
 };
 pub use input::{ClaimForm, RunInput};
