@@ -208,11 +208,7 @@ pub fn paired_holdout_needed(r: u64, s: u64, n: u64, alpha: f64, threshold: f64)
 fn paired_stretch_end(r: u64, s: u64, n: u64, r_size: u64, s_size: u64) -> u64 {
     let (r, s, n) = (r as u128, s as u128, n as u128);
     // ⌈r·x/n⌉ ≤ r_size ⟺ r·x ≤ r_size·n ⟺ x ≤ ⌊r_size·n / r⌋.
-    let run_end = if r == 0 {
-        u128::MAX
-    } else {
-        r_size as u128 * n / r
-    };
+    let run_end = (r_size as u128 * n).checked_div(r).unwrap_or(u128::MAX);
     // ⌊s·x/n⌋ ≤ s_size ⟺ s·x < (s_size + 1)·n ⟺ x ≤ ⌈(s_size + 1)·n / s⌉ − 1.
     let base_end = if s == 0 {
         u128::MAX
