@@ -3,7 +3,7 @@
 
 use std::io::{self, Write};
 
-use super::text::{group_thousands, wrap};
+use super::text::{group_thousands, printable, wrap};
 use super::View;
 use crate::calculators::{FamilyList, GrowthTable, HoldoutPlan, ReusePlan, TrainPlan};
 use crate::certificate::Verification;
@@ -212,24 +212,32 @@ impl View for Verification {
             format!("{} run(s) and {} claim(s)", self.runs, self.claims)
         };
         let folder = match &self.root {
-            Some(root) => format!("inputs read from {root}"),
+            Some(root) => format!("inputs read from {}", printable(root)),
             None => "the demo's built-in logs".to_string(),
         };
         if self.drift.is_empty() {
             writeln!(
                 out,
                 "{}: verified ({folder}): {checked}, {recomputed} recomputed with identical results",
-                self.certificate
+                printable(&self.certificate)
             )
         } else {
             writeln!(
                 out,
                 "{}: DRIFT ({} difference(s); {folder})",
-                self.certificate,
+                printable(&self.certificate),
                 self.drift.len()
             )?;
+            // Subjects and details quote the certificate, which anyone can edit: no
+            // escape sequence of theirs reaches the terminal.
             for d in &self.drift {
-                writeln!(out, "  {:<16} {}: {}", d.kind, d.subject, d.detail)?;
+                writeln!(
+                    out,
+                    "  {:<16} {}: {}",
+                    d.kind,
+                    printable(&d.subject),
+                    printable(&d.detail)
+                )?;
             }
             Ok(())
         }

@@ -473,3 +473,25 @@ fn a_certificate_in_a_subfolder_needs_root_to_read_inputs_outside_it() {
     );
     assert_eq!(output.status.code(), Some(0), "{}", common::stdout(&output));
 }
+
+/// Drift lines quote the certificate, which anyone can edit: an escape sequence
+/// planted in it does not reach the terminal.
+#[test]
+fn drift_lines_carry_no_escape_sequences() {
+    let (dir, cert) = certified_folder();
+    edit_certificate(&cert, |doc| {
+        doc["reviewer"] = "\u{1b}]8;;https://example.invalid\u{7}approved\u{1b}[0m".into();
+        doc["\u{1b}[31mkey"] = 1.into();
+    });
+    let output = gapcert_in(dir.path(), &["verify", "audit.cert.json"]);
+    assert_eq!(output.status.code(), Some(1));
+    let text = common::stdout(&output);
+    assert!(
+        text.contains("reviewer") && text.contains("approved"),
+        "{text}"
+    );
+    assert!(
+        !text.contains('\u{1b}') && !text.contains('\u{7}'),
+        "{text:?}"
+    );
+}
