@@ -99,24 +99,111 @@ pub fn seal(document: &AuditDocument) -> BTreeMap<String, String> {
 
 /// The certificate of `document`, audited from `paths` as typed (empty for the demo's
 /// built-in logs) in the folder `working_dir`, to be written at `certificate_path`.
+/// Absolute paths inside `working_dir` are written relative to it, everywhere in the
+/// document, so that a copy of the folder verifies like the original.
 pub fn certify(
     document: &AuditDocument,
     paths: &[String],
     working_dir: &Path,
     certificate_path: &Path,
 ) -> Certificate {
-    let root = relative_folder(&folder_of(certificate_path), &absolute(working_dir));
+    let folder = absolute(working_dir);
+    let root = relative_folder(&folder_of(certificate_path), &folder);
+    let renames = relative_renames(
+        paths.iter().chain(&document.settings.claims),
+        &[working_dir, &folder],
+    );
+    let document = rebased(document, &renames).unwrap_or_else(|| document.clone());
+    let demo = paths.is_empty();
+    let paths = paths
+        .iter()
+        .map(|path| {
+            let mut path = Value::String(path.clone());
+            rename_paths(&mut path, &renames);
+            path.as_str().unwrap_or_default().to_string()
+        })
+        .collect();
     Certificate {
-        document: document.clone(),
         certificate: CertificateInfo {
             format: CERTIFICATE_FORMAT.to_string(),
-            paths: paths.to_vec(),
-            demo: paths.is_empty(),
+            paths,
+            demo,
             root: Some(root),
             working_dir: None,
-            seal: seal(document),
+            seal: seal(&document),
         },
+        document,
     }
+}
+
+/// For each absolute path among `given` that lies inside one of `folders` (the same
+/// folder as given and with links resolved), what to write instead: the text of the
+/// path and the text relative to the folder, longest first. The folder itself becomes
+/// `.` (and its files `./name`, as an audit of `.` names them).
+fn relative_renames<'a>(
+    given: impl Iterator<Item = &'a String>,
+    folders: &[&Path],
+) -> Vec<(String, String)> {
+    let mut renames = Vec::new();
+    for path in given {
+        if !Path::new(path).is_absolute() {
+            continue;
+        }
+        let inside = folders
+            .iter()
+            .find_map(|folder| Path::new(path).strip_prefix(folder).ok());
+        if let Some(rest) = inside {
+            let rest = rest.display().to_string();
+            let path = path.trim_end_matches('/').to_string();
+            if rest.is_empty() {
+                renames.push((format!("{path}/"), "./".to_string()));
+                renames.push((path, ".".to_string()));
+            } else {
+                renames.push((path, rest));
+            }
+        }
+    }
+    renames.sort_by_key(|(from, _)| std::cmp::Reverse(from.len()));
+    renames.dedup();
+    renames
+}
+
+/// Applies `renames` to every string of `value`, wherever the path appears (a path
+/// strictly inside the folder can only begin a longer path inside it too); the folder
+/// itself (renamed `.`) only where it is the whole string, its files through `W/`.
+fn rename_paths(value: &mut Value, renames: &[(String, String)]) {
+    match value {
+        Value::String(text) => {
+            for (from, to) in renames {
+                if to == "." {
+                    if text.as_str() == from {
+                        *text = to.clone();
+                    }
+                } else if text.contains(from.as_str()) {
+                    *text = text.replace(from.as_str(), to);
+                }
+            }
+        }
+        Value::Array(items) => items
+            .iter_mut()
+            .for_each(|item| rename_paths(item, renames)),
+        Value::Object(fields) => fields
+            .values_mut()
+            .for_each(|item| rename_paths(item, renames)),
+        _ => {}
+    }
+}
+
+/// `document` with `renames` applied to its paths; None when there is nothing to do.
+fn rebased(document: &AuditDocument, renames: &[(String, String)]) -> Option<AuditDocument> {
+    if renames.is_empty() {
+        return None;
+    }
+    let mut value = serde_json::to_value(document).ok()?;
+    rename_paths(&mut value, renames);
+    let mut rebased: AuditDocument = serde_json::from_value(value).ok()?;
+    rebased.notes = document.notes.clone();
+    Some(rebased)
 }
 
 /// Writes a certificate for `document`, audited from `paths` in the current folder

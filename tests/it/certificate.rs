@@ -495,3 +495,68 @@ fn drift_lines_carry_no_escape_sequences() {
         "{text:?}"
     );
 }
+
+/// Absolute paths inside the folder the audit ran in are written relative to it, so a
+/// copy of the folder verifies (and an edited copy drifts).
+#[test]
+fn absolute_paths_inside_the_audit_folder_are_written_relative() {
+    let dir = tempfile::tempdir().unwrap();
+    let folder = std::fs::canonicalize(dir.path()).unwrap();
+    std::fs::create_dir(folder.join("logs")).unwrap();
+    std::fs::copy(
+        common::root().join("fixtures/worked/runs.csv"),
+        folder.join("logs/worked.csv"),
+    )
+    .unwrap();
+    std::fs::copy(
+        common::root().join("fixtures/worked/claims.csv"),
+        folder.join("claims.csv"),
+    )
+    .unwrap();
+    let logs = folder.join("logs");
+    let claims = folder.join("claims.csv");
+    let output = gapcert_in(
+        &folder,
+        &[
+            "audit",
+            logs.to_str().unwrap(),
+            "--claims",
+            claims.to_str().unwrap(),
+            "--certificate",
+            "audit.cert.json",
+            "-q",
+        ],
+    );
+    assert_eq!(output.status.code(), Some(1), "{}", common::stderr(&output));
+    let text = std::fs::read_to_string(folder.join("audit.cert.json")).unwrap();
+    assert!(
+        !text.contains(&folder.display().to_string()),
+        "an absolute path is left in the certificate"
+    );
+    let cert: Value = serde_json::from_str(&text).unwrap();
+    assert_eq!(cert["certificate"]["paths"], serde_json::json!(["logs"]));
+    assert_eq!(cert["inputs"][0]["path"], "logs/worked.csv");
+    assert_eq!(
+        cert["settings"]["claims"],
+        serde_json::json!(["claims.csv"])
+    );
+    let copy = tempfile::tempdir().unwrap();
+    std::fs::create_dir(copy.path().join("logs")).unwrap();
+    for name in ["logs/worked.csv", "claims.csv", "audit.cert.json"] {
+        std::fs::copy(folder.join(name), copy.path().join(name)).unwrap();
+    }
+    let verified = gapcert_in(copy.path(), &["verify", "audit.cert.json"]);
+    assert_eq!(
+        verified.status.code(),
+        Some(0),
+        "{}",
+        common::stdout(&verified)
+    );
+    let log = copy.path().join("logs/worked.csv");
+    let edited = std::fs::read_to_string(&log)
+        .unwrap()
+        .replacen(",68,", ",69,", 1);
+    std::fs::write(&log, edited).unwrap();
+    let drift = gapcert_in(copy.path(), &["verify", "audit.cert.json"]);
+    assert_eq!(drift.status.code(), Some(1), "{}", common::stdout(&drift));
+}
