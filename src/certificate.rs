@@ -36,6 +36,7 @@ use crate::error::{describe_io_error, Error};
 use crate::ingest::hex;
 use crate::report::atomic::write_atomically;
 use crate::report::document::{AuditDocument, ToolInfo};
+use crate::report::text::printable;
 
 mod drift;
 use drift::compare_documents;
@@ -407,7 +408,7 @@ fn check_tree(
     }
     let list = escaping
         .iter()
-        .map(|p| format!("`{p}`"))
+        .map(|p| format!("`{}`", printable(p)))
         .collect::<Vec<_>>()
         .join(", ");
     let advice = if root_given {
