@@ -2,26 +2,50 @@
 //! `gapcert verify`, which re-hashes the inputs, recomputes the audit with the recorded
 //! settings and names every difference.
 //!
-//! The seal is a set of SHA-256 digests over the certificate's own sections (each
-//! setting separately, the inputs, the runs). It detects edits made to the file after
-//! it was written and names the edited part; it is not a signature: anyone who edits
-//! the file can recompute it. Authenticity needs a signature from outside gapcert.
+//! **What verify checks.** Every field of the document except `generated_at` is
+//! recomputed from the inputs and compared with the certificate, key by key and item by
+//! item: an edited headline (`summary.gate`), an edited split (`splits[0].
+//! comparisons_left`) or a key added anywhere (`runs[3].extra_key`) is drift named by
+//! its path, like a changed log. Runs are matched by source, claims by identifier and
+//! files by path; numbers agree within a relative 1e-12 (rounding, not drift). The
+//! certificate's own section is checked apart: its format, its paths (they decide what
+//! is recomputed) and its seal. The seal is a set of SHA-256 digests over the
+//! certificate's sections (each setting separately, the inputs, the runs, the claims);
+//! it names which part was edited after writing; it is not a signature: anyone who
+//! edits the file can recompute it, which is why the recomputation, not the seal,
+//! decides. Authenticity needs a signature from outside gapcert.
+//!
+//! **Where the inputs are.** The paths in the document are the audit's, relative to
+//! the folder it ran in; the certificate records that folder relative to its own
+//! (`root`, "." when the certificate was written there). `verify` reads the inputs
+//! from the certificate's folder (joined with `root`), or from `--root DIR`, and from
+//! nowhere else: a file missing there is drift, never looked up in the folder the
+//! audit ran in. A path that leads out of that folder (absolute, or with `..`) is
+//! refused (exit 2) unless `--root` names a folder holding it. Certificates of format
+//! 1 recorded the absolute `working_dir` instead; it is shown when an input is
+//! missing, never read from. Tested in `tests/it/certificate.rs`.
 
-use std::collections::BTreeMap;
-use std::path::{Path, PathBuf};
+use std::collections::{BTreeMap, BTreeSet};
+use std::path::{Component, Path, PathBuf};
 
 use serde::{Deserialize, Serialize};
+use serde_json::{Map, Value};
 use sha2::{Digest, Sha256};
 
 use crate::error::{describe_io_error, Error};
-use crate::ingest::{hex, InputFile};
+use crate::ingest::hex;
 use crate::report::atomic::write_atomically;
 use crate::report::document::{AuditDocument, ToolInfo};
+use crate::report::text::printable;
 
 pub use crate::report::own_outputs::CERTIFICATE_FORMAT;
 
-/// Relative differences below this are rounding, not drift.
-const NUMERIC_DRIFT_TOLERANCE: f64 = 1e-12;
+mod drift;
+use drift::compare_documents;
+pub use drift::{Drift, DriftKind};
+
+/// Layouts `verify` reads: format 1 recorded the absolute `working_dir`.
+const FORMATS_READ: [&str; 2] = ["gapcert-certificate/1", CERTIFICATE_FORMAT];
 
 /// What a certificate adds to the audit document.
 #[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
@@ -31,8 +55,14 @@ pub struct CertificateInfo {
     pub paths: Vec<String>,
     /// Whether the audit was `gapcert demo` (built-in logs).
     pub demo: bool,
-    /// The working folder the paths are relative to.
-    pub working_dir: String,
+    /// The folder the audit ran in (which the paths are relative to), relative to the
+    /// certificate's own folder, with `/` between names: "." when the certificate was
+    /// written in that folder.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub root: Option<String>,
+    /// Format 1: the absolute folder the audit ran in. Shown, never read from.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub working_dir: Option<String>,
     /// SHA-256 per setting, and of the inputs and runs sections.
     pub seal: BTreeMap<String, String>,
 }
@@ -53,7 +83,7 @@ fn digest_json<T: Serialize>(value: &T) -> String {
 /// The seal of a document: one digest per setting, plus inputs and runs.
 pub fn seal(document: &AuditDocument) -> BTreeMap<String, String> {
     let mut seal = BTreeMap::new();
-    if let Ok(serde_json::Value::Object(settings)) = serde_json::to_value(&document.settings) {
+    if let Ok(Value::Object(settings)) = serde_json::to_value(&document.settings) {
         for (name, value) in settings {
             seal.insert(format!("settings.{name}"), digest_json(&value));
         }
@@ -67,30 +97,123 @@ pub fn seal(document: &AuditDocument) -> BTreeMap<String, String> {
 }
 
 /// The certificate of `document`, audited from `paths` as typed (empty for the demo's
-/// built-in logs), relative to the current working folder.
-pub fn certify(document: &AuditDocument, paths: &[String]) -> Certificate {
-    let working_dir = std::env::current_dir()
-        .map(|d| d.display().to_string())
-        .unwrap_or_default();
+/// built-in logs) in the folder `working_dir`, to be written at `certificate_path`.
+/// Absolute paths inside `working_dir` are written relative to it, everywhere in the
+/// document, so that a copy of the folder verifies like the original.
+pub fn certify(
+    document: &AuditDocument,
+    paths: &[String],
+    working_dir: &Path,
+    certificate_path: &Path,
+) -> Certificate {
+    let folder = absolute(working_dir);
+    let root = relative_folder(&folder_of(certificate_path), &folder);
+    let renames = relative_renames(
+        paths.iter().chain(&document.settings.claims),
+        &[working_dir, &folder],
+    );
+    let document = rebased(document, &renames).unwrap_or_else(|| document.clone());
+    let demo = paths.is_empty();
+    let paths = paths
+        .iter()
+        .map(|path| {
+            let mut path = Value::String(path.clone());
+            rename_paths(&mut path, &renames);
+            path.as_str().unwrap_or_default().to_string()
+        })
+        .collect();
     Certificate {
-        document: document.clone(),
         certificate: CertificateInfo {
             format: CERTIFICATE_FORMAT.to_string(),
-            paths: paths.to_vec(),
-            demo: paths.is_empty(),
-            working_dir,
-            seal: seal(document),
+            paths,
+            demo,
+            root: Some(root),
+            working_dir: None,
+            seal: seal(&document),
         },
+        document,
     }
 }
 
-/// Writes a certificate for `document` (atomically).
+/// For each absolute path among `given` that lies inside one of `folders` (the same
+/// folder as given and with links resolved), what to write instead: the text of the
+/// path and the text relative to the folder, longest first. The folder itself becomes
+/// `.` (and its files `./name`, as an audit of `.` names them).
+fn relative_renames<'a>(
+    given: impl Iterator<Item = &'a String>,
+    folders: &[&Path],
+) -> Vec<(String, String)> {
+    let mut renames = Vec::new();
+    for path in given {
+        if !Path::new(path).is_absolute() {
+            continue;
+        }
+        let inside = folders
+            .iter()
+            .find_map(|folder| Path::new(path).strip_prefix(folder).ok());
+        if let Some(rest) = inside {
+            let rest = rest.display().to_string();
+            let path = path.trim_end_matches('/').to_string();
+            if rest.is_empty() {
+                renames.push((format!("{path}/"), "./".to_string()));
+                renames.push((path, ".".to_string()));
+            } else {
+                renames.push((path, rest));
+            }
+        }
+    }
+    renames.sort_by_key(|(from, _)| std::cmp::Reverse(from.len()));
+    renames.dedup();
+    renames
+}
+
+/// Applies `renames` to every string of `value`, wherever the path appears (a path
+/// strictly inside the folder can only begin a longer path inside it too); the folder
+/// itself (renamed `.`) only where it is the whole string, its files through `W/`.
+fn rename_paths(value: &mut Value, renames: &[(String, String)]) {
+    match value {
+        Value::String(text) => {
+            for (from, to) in renames {
+                if to == "." {
+                    if text.as_str() == from {
+                        *text = to.clone();
+                    }
+                } else if text.contains(from.as_str()) {
+                    *text = text.replace(from.as_str(), to);
+                }
+            }
+        }
+        Value::Array(items) => items
+            .iter_mut()
+            .for_each(|item| rename_paths(item, renames)),
+        Value::Object(fields) => fields
+            .values_mut()
+            .for_each(|item| rename_paths(item, renames)),
+        _ => {}
+    }
+}
+
+/// `document` with `renames` applied to its paths; None when there is nothing to do.
+fn rebased(document: &AuditDocument, renames: &[(String, String)]) -> Option<AuditDocument> {
+    if renames.is_empty() {
+        return None;
+    }
+    let mut value = serde_json::to_value(document).ok()?;
+    rename_paths(&mut value, renames);
+    let mut rebased: AuditDocument = serde_json::from_value(value).ok()?;
+    rebased.notes = document.notes.clone();
+    Some(rebased)
+}
+
+/// Writes a certificate for `document`, audited from `paths` in the current folder
+/// (atomically).
 pub fn write_certificate(
     path: &Path,
     document: &AuditDocument,
     paths: &[String],
 ) -> Result<(), Error> {
-    let certificate = certify(document, paths);
+    let working_dir = std::env::current_dir().unwrap_or_else(|_| PathBuf::from("."));
+    let certificate = certify(document, paths, &working_dir, path);
     write_atomically(path, |out| {
         serde_json::to_writer_pretty(&mut *out, &certificate)?;
         out.write_all(b"\n")
@@ -104,20 +227,85 @@ pub fn write_certificate(
     })
 }
 
-/// One difference between a certificate and the present.
-#[derive(Clone, Debug, PartialEq, Serialize)]
-pub struct Drift {
-    /// `input_changed`, `input_missing`, `input_added`, `setting_edited`, `runs_edited`,
-    /// `inputs_edited`, `claims_edited`, `tool_version`, `run_changed`, `run_missing`,
-    /// `run_added`, `claims_file_changed`, `claims_file_missing`, `claim_changed`,
-    /// `claim_missing`, `claim_added`, `audit_failed`.
-    pub kind: &'static str,
-    pub subject: String,
-    pub detail: String,
+/// `path` made absolute, with links resolved where it exists.
+fn absolute(path: &Path) -> PathBuf {
+    std::fs::canonicalize(path)
+        .or_else(|_| std::path::absolute(path))
+        .map(|p| normalize(&p))
+        .unwrap_or_else(|_| path.to_path_buf())
 }
+
+/// The folder a file at `path` lies in, absolute.
+fn folder_of(path: &Path) -> PathBuf {
+    match path.parent() {
+        Some(parent) if !parent.as_os_str().is_empty() => absolute(parent),
+        _ => absolute(Path::new(".")),
+    }
+}
+
+/// `path` with `.` and `..` resolved by name (no file system access).
+fn normalize(path: &Path) -> PathBuf {
+    let mut out = PathBuf::new();
+    for component in path.components() {
+        match component {
+            Component::CurDir => {}
+            Component::ParentDir => {
+                let popped =
+                    matches!(out.components().next_back(), Some(Component::Normal(_))) && out.pop();
+                if !popped && !out.has_root() {
+                    out.push("..");
+                }
+            }
+            other => out.push(other.as_os_str()),
+        }
+    }
+    out
+}
+
+/// The path that leads from folder `from` to folder `to` (both absolute and
+/// normalized), with `/` between names; `to` itself when they share no root.
+fn relative_folder(from: &Path, to: &Path) -> String {
+    let from_parts: Vec<Component> = from.components().collect();
+    let to_parts: Vec<Component> = to.components().collect();
+    if from_parts.first() != to_parts.first() {
+        return to.display().to_string();
+    }
+    let common = from_parts
+        .iter()
+        .zip(&to_parts)
+        .take_while(|(a, b)| a == b)
+        .count();
+    let mut parts: Vec<String> = vec!["..".to_string(); from_parts.len() - common];
+    parts.extend(
+        to_parts[common..]
+            .iter()
+            .map(|c| c.as_os_str().to_string_lossy().to_string()),
+    );
+    if parts.is_empty() {
+        ".".to_string()
+    } else {
+        parts.join("/")
+    }
+}
+
+/// A certificate as read: typed, and the document as written (every key, known or
+/// not), without its `certificate` section.
+struct ReadCertificate {
+    certificate: Certificate,
+    written: Map<String, Value>,
+    /// Keys of the `certificate` section that no format has.
+    unknown_keys: Vec<String>,
+}
+
+/// The keys of the `certificate` section.
+const CERTIFICATE_KEYS: [&str; 6] = ["format", "paths", "demo", "root", "working_dir", "seal"];
 
 /// Reads and checks a certificate file.
 pub fn read_certificate(path: &Path) -> Result<Certificate, Error> {
+    read_whole(path).map(|read| read.certificate)
+}
+
+fn read_whole(path: &Path) -> Result<ReadCertificate, Error> {
     let text = std::fs::read_to_string(path).map_err(|error| {
         Error::Io(format!(
             "{}: cannot read the certificate ({})",
@@ -125,469 +313,359 @@ pub fn read_certificate(path: &Path) -> Result<Certificate, Error> {
             describe_io_error(&error)
         ))
     })?;
-    let certificate: Certificate = serde_json::from_str(&text).map_err(|error| {
+    // An editor may save the file with a byte-order mark; JSON has none.
+    let text = text.strip_prefix('\u{feff}').unwrap_or(&text);
+    let not_a_certificate = |error: serde_json::Error| {
         Error::Usage(format!(
             "{}: not a gapcert certificate ({error})",
             path.display()
         ))
-    })?;
-    if certificate.certificate.format != CERTIFICATE_FORMAT {
+    };
+    let value: Value = serde_json::from_str(text).map_err(not_a_certificate)?;
+    let certificate: Certificate =
+        serde_json::from_value(value.clone()).map_err(not_a_certificate)?;
+    if !FORMATS_READ.contains(&certificate.certificate.format.as_str()) {
         return Err(Error::Usage(format!(
             "{}: unknown certificate format {:?} (expected {CERTIFICATE_FORMAT:?})",
             path.display(),
             certificate.certificate.format
         )));
     }
-    Ok(certificate)
+    let Value::Object(mut written) = value else {
+        unreachable!("a certificate parsed from an object")
+    };
+    let unknown_keys = match written.remove("certificate") {
+        Some(Value::Object(section)) => section
+            .keys()
+            .filter(|key| !CERTIFICATE_KEYS.contains(&key.as_str()))
+            .cloned()
+            .collect(),
+        _ => Vec::new(),
+    };
+    Ok(ReadCertificate {
+        certificate,
+        written,
+        unknown_keys,
+    })
 }
 
-/// Compares a certificate with the present state of its inputs and of the tool.
-pub fn find_drift(certificate: &Certificate) -> Vec<Drift> {
+/// The folder a certificate's inputs are read from, and the tree they must lie in.
+#[derive(Clone, Debug)]
+struct Folder {
+    /// The folder the recorded relative paths are joined to (absolute).
+    base: PathBuf,
+    /// No path may lead out of this folder (absolute).
+    tree: PathBuf,
+}
+
+impl Folder {
+    /// The certificate's own folder joined with its `root`, or `--root`.
+    fn of(path: &Path, info: &CertificateInfo, root: Option<&Path>) -> Folder {
+        match root {
+            Some(root) => {
+                let root = absolute(root);
+                Folder {
+                    base: root.clone(),
+                    tree: root,
+                }
+            }
+            None => {
+                let tree = folder_of(path);
+                let base = normalize(&tree.join(info.root.as_deref().unwrap_or(".")));
+                Folder { base, tree }
+            }
+        }
+    }
+
+    /// Where a recorded path is read from: joined to the base unless absolute.
+    fn resolve(&self, recorded: &str) -> PathBuf {
+        self.base.join(recorded)
+    }
+
+    /// Whether a recorded path leads out of the tree.
+    fn escapes(&self, recorded: &str) -> bool {
+        !normalize(&self.resolve(recorded)).starts_with(&self.tree)
+    }
+}
+
+/// Refuses a certificate whose paths lead out of the folder verified.
+fn check_tree(
+    path: &Path,
+    certificate: &Certificate,
+    folder: &Folder,
+    root_given: bool,
+) -> Result<(), Error> {
+    let info = &certificate.certificate;
+    let recorded = info
+        .paths
+        .iter()
+        .chain(&certificate.document.settings.claims);
+    let escaping: Vec<&String> = recorded.filter(|p| folder.escapes(p)).collect();
+    if escaping.is_empty() {
+        return Ok(());
+    }
+    let list = escaping
+        .iter()
+        .map(|p| format!("`{}`", printable(p)))
+        .collect::<Vec<_>>()
+        .join(", ");
+    let advice = if root_given {
+        "give --root a folder that holds them".to_string()
+    } else if !folder.base.starts_with(&folder.tree) {
+        format!(
+            "the audit ran in {} (`{}` from the certificate's folder); if the inputs are meant to be read there, give --root {}",
+            folder.base.display(),
+            certificate.certificate.root.as_deref().unwrap_or("."),
+            folder.base.display()
+        )
+    } else {
+        "if the inputs are meant to be read there, give --root FOLDER naming a folder that holds them".to_string()
+    };
+    Err(Error::Usage(format!(
+        "{}: refusing to read {list}: outside {}, the folder verified; {advice}",
+        path.display(),
+        folder.tree.display()
+    )))
+}
+
+/// Compares a certificate with the present state of its inputs and of the tool, with
+/// the inputs read relative to the folder the certificate lies in (`path`) or `root`.
+fn find_drift(read: &ReadCertificate, folder: Option<&Folder>) -> Vec<Drift> {
+    let certificate = &read.certificate;
     let mut drift = Vec::new();
     let recorded = &certificate.document;
     let info = &certificate.certificate;
 
-    // 1. Was the certificate edited after it was written?
+    // 1. Was the certificate edited after it was written? (The seal names the part.)
     let present_seal = seal(recorded);
     for (name, digest) in &info.seal {
-        match present_seal.get(name) {
-            Some(now) if now == digest => {}
-            _ => {
-                let kind = if name.starts_with("settings.") {
-                    "setting_edited"
-                } else if name == "runs" {
-                    "runs_edited"
-                } else if name == "claims" || name == "claim_files" {
-                    "claims_edited"
-                } else if name == "inputs" {
-                    "inputs_edited"
-                } else {
-                    "certificate_edited"
-                };
-                drift.push(Drift {
-                    kind,
-                    subject: name.trim_start_matches("settings.").to_string(),
-                    detail: format!("`{name}` in the certificate no longer matches its seal: it was edited after the certificate was written"),
-                });
-            }
+        if present_seal.get(name) == Some(digest) {
+            continue;
         }
+        let kind = if name.starts_with("settings.") {
+            DriftKind::SettingEdited
+        } else if name == "runs" {
+            DriftKind::RunsEdited
+        } else if name == "claims" || name == "claim_files" {
+            DriftKind::ClaimsEdited
+        } else if name == "inputs" {
+            DriftKind::InputsEdited
+        } else {
+            DriftKind::CertificateEdited
+        };
+        drift.push(Drift::new(
+            kind,
+            name.trim_start_matches("settings."),
+            format!("`{name}` in the certificate no longer matches its seal: it was edited after the certificate was written"),
+        ));
+    }
+    for key in &read.unknown_keys {
+        drift.push(Drift::new(
+            DriftKind::FieldAdded,
+            format!("certificate.{key}"),
+            "not a field of a certificate: it was added after the certificate was written",
+        ));
     }
     for name in present_seal.keys() {
         if !info.seal.contains_key(name) {
-            drift.push(Drift {
-                kind: "certificate_edited",
-                subject: name.clone(),
-                detail: format!("`{name}` is not covered by the seal"),
-            });
+            drift.push(Drift::new(
+                DriftKind::CertificateEdited,
+                name.clone(),
+                format!("`{name}` is not covered by the seal"),
+            ));
         }
     }
 
     // 2. The tool version.
     let current = ToolInfo::current();
     if recorded.tool.version != current.version {
-        drift.push(Drift {
-            kind: "tool_version",
-            subject: "gapcert".into(),
-            detail: format!(
+        drift.push(Drift::new(
+            DriftKind::ToolVersion,
+            "gapcert",
+            format!(
                 "written by gapcert {}, verified with {}",
                 recorded.tool.version, current.version
             ),
-        });
+        ));
     }
 
-    // 3. Inputs: re-discover and re-hash.
-    let base = PathBuf::from(&info.working_dir);
-    let relative_to_base =
-        !info.demo && base.is_dir() && info.paths.iter().all(|p| base.join(p).exists());
-    let resolve = |p: &str| -> PathBuf {
-        if relative_to_base {
-            base.join(p)
-        } else {
-            PathBuf::from(p)
+    // 3. Recompute the audit from the inputs in the folder verified.
+    let present = recompute(certificate, folder, &mut drift);
+
+    // 4. Compare every field.
+    match present {
+        Err(error) => {
+            drift.push(Drift::new(
+                DriftKind::AuditFailed,
+                "audit",
+                format!(
+                    "the audit cannot be recomputed: {}",
+                    error.lines().next().unwrap_or("")
+                ),
+            ));
+            if let Some(folder) = folder {
+                rehash_inputs(recorded, folder, &mut drift);
+            }
         }
-    };
+        Ok(present) => compare_documents(&read.written, &present, &mut drift),
+    }
+    // A file named both as given and as read is said missing once.
+    let mut said = BTreeSet::new();
+    drift.retain(|d| said.insert((d.kind, d.subject.clone())));
+    drift
+}
+
+/// The audit recomputed with the recorded settings from the inputs in `folder`, as a
+/// JSON object with the paths written as the certificate writes them; notes the
+/// given paths and claims files that are missing.
+fn recompute(
+    certificate: &Certificate,
+    folder: Option<&Folder>,
+    drift: &mut Vec<Drift>,
+) -> Result<Map<String, Value>, String> {
+    let recorded = &certificate.document;
+    let info = &certificate.certificate;
     let audit_settings = recorded.settings.audit_settings();
     let mut ingest_settings = recorded.settings.ingest_settings();
-    // Claims files were given like the logs, relative to the same folder.
-    let claims_base_ok = base.is_dir()
-        && recorded
-            .settings
-            .claims
-            .iter()
-            .all(|p| base.join(p).exists());
-    ingest_settings.claims_files = recorded
-        .settings
-        .claims
-        .iter()
-        .map(|p| {
-            if claims_base_ok {
-                base.join(p)
-            } else {
-                PathBuf::from(p)
-            }
-        })
-        .collect();
-    for (recorded_path, path) in recorded
-        .settings
-        .claims
-        .iter()
-        .zip(&ingest_settings.claims_files)
-    {
-        if !path.exists() {
-            drift.push(Drift {
-                kind: "claims_file_missing",
-                subject: recorded_path.clone(),
-                detail: "the claims file given to the audit no longer exists".into(),
-            });
-        }
-    }
-    ingest_settings.claims_files.retain(|p| p.exists());
-    let present: Result<AuditDocument, String> = if info.demo {
-        crate::api::audit_sources_with_claims(
+    let Some(folder) = folder else {
+        // The demo: built-in logs and claims.
+        let document = crate::api::audit_sources_with_claims(
             &crate::demo::sources(),
             &crate::demo::claims_sources(),
             &audit_settings,
             &ingest_settings,
         )
-        .map_err(|e| e.to_string())
-    } else {
-        let paths: Vec<PathBuf> = info.paths.iter().map(|p| resolve(p)).collect();
-        let missing: Vec<&String> = info.paths.iter().filter(|p| !resolve(p).exists()).collect();
-        for path in &missing {
-            drift.push(Drift {
-                kind: "input_missing",
-                subject: path.to_string(),
-                detail: "the path given to the audit no longer exists".into(),
-            });
-        }
-        let present_paths: Vec<PathBuf> = paths.into_iter().filter(|p| p.exists()).collect();
-        if present_paths.is_empty() {
-            Err("none of the audited paths exist".to_string())
+        .map_err(|e| e.to_string())?;
+        return as_object(&document);
+    };
+    let written_in = match &info.working_dir {
+        Some(dir) => format!(
+            " (the certificate was written in {dir}; give --root to verify the files there)"
+        ),
+        None => String::new(),
+    };
+    let mut claims_missing = false;
+    ingest_settings.claims_files.clear();
+    for claims in &recorded.settings.claims {
+        let path = folder.resolve(claims);
+        if path.exists() {
+            ingest_settings.claims_files.push(path);
         } else {
-            crate::api::audit_paths(&present_paths, &audit_settings, &ingest_settings)
-                .map_err(|e| e.to_string())
-        }
-    };
-
-    let now_inputs: Vec<InputFile> = match &present {
-        Ok(doc) => doc.inputs.clone(),
-        Err(_) => Vec::new(),
-    };
-    let strip = |path: &str| -> String {
-        if relative_to_base {
-            Path::new(path)
-                .strip_prefix(&base)
-                .map(|p| p.display().to_string())
-                .unwrap_or_else(|_| path.to_string())
-        } else {
-            path.to_string()
-        }
-    };
-    let now_by_path: BTreeMap<String, &InputFile> =
-        now_inputs.iter().map(|i| (strip(&i.path), i)).collect();
-    for input in &recorded.inputs {
-        match now_by_path.get(&input.path) {
-            Some(now) if now.sha256 == input.sha256 => {}
-            Some(now) => drift.push(Drift {
-                kind: "input_changed",
-                subject: input.path.clone(),
-                detail: format!(
-                    "content changed: SHA-256 {}… → {}…, {} → {} bytes",
-                    &input.sha256[..12.min(input.sha256.len())],
-                    &now.sha256[..12.min(now.sha256.len())],
-                    input.size,
-                    now.size
+            claims_missing = true;
+            drift.push(Drift::new(
+                DriftKind::ClaimsFileMissing,
+                claims.clone(),
+                format!(
+                    "the claims file given to the audit is not in {}{written_in}",
+                    folder.base.display()
                 ),
-            }),
-            None => {
-                if present.is_ok() || !Path::new(&resolve(&input.path)).exists() {
-                    drift.push(Drift {
-                        kind: "input_missing",
-                        subject: input.path.clone(),
-                        detail: "the file is gone".into(),
-                    })
-                } else if let Ok(bytes) = std::fs::read(resolve(&input.path)) {
-                    let digest = hex(&Sha256::digest(&bytes));
-                    if digest != input.sha256 {
-                        drift.push(Drift {
-                            kind: "input_changed",
-                            subject: input.path.clone(),
-                            detail: "content changed (SHA-256 differs)".into(),
-                        });
-                    }
-                }
-            }
+            ));
         }
     }
-    let recorded_paths: std::collections::BTreeSet<&str> =
-        recorded.inputs.iter().map(|i| i.path.as_str()).collect();
-    for path in now_by_path.keys() {
-        if !recorded_paths.contains(path.as_str()) {
-            drift.push(Drift {
-                kind: "input_added",
-                subject: path.clone(),
-                detail: "a log file that was not part of the certified audit".into(),
-            });
+    // Map-file sections match the paths found: give them the folder's prefix.
+    for section in &mut ingest_settings.sections {
+        if section.pattern.contains('/') && !Path::new(&section.pattern).is_absolute() {
+            section.pattern = format!("{}/{}", folder.base.display(), section.pattern);
         }
     }
-
-    // 4. Recompute and compare run by run.
-    match present {
-        Err(error) => drift.push(Drift {
-            kind: "audit_failed",
-            subject: "audit".into(),
-            detail: format!(
-                "the audit cannot be recomputed: {}",
-                error.lines().next().unwrap_or("")
-            ),
-        }),
-        Ok(doc) => {
-            let now_runs: BTreeMap<String, &crate::audit::RunResult> = doc
-                .runs
-                .iter()
-                .map(|r| (strip_source(&strip, &r.source), r))
-                .collect();
-            for run in &recorded.runs {
-                match now_runs.get(&run.source) {
-                    None => drift.push(Drift {
-                        kind: "run_missing",
-                        subject: run.run.clone(),
-                        detail: format!("{} is no longer in the logs", run.source),
-                    }),
-                    Some(now) => {
-                        let changes = compare_runs(run, now);
-                        if !changes.is_empty() {
-                            drift.push(Drift {
-                                kind: "run_changed",
-                                subject: run.run.clone(),
-                                detail: changes.join("; "),
-                            });
-                        }
-                    }
-                }
-            }
-            compare_claims(recorded, &doc, &strip, &mut drift);
-            let recorded_sources: std::collections::BTreeSet<&str> =
-                recorded.runs.iter().map(|r| r.source.as_str()).collect();
-            for (source, run) in &now_runs {
-                if !recorded_sources.contains(source.as_str()) {
-                    drift.push(Drift {
-                        kind: "run_added",
-                        subject: run.run.clone(),
-                        detail: format!("{source} was not in the certified audit"),
-                    });
-                }
-            }
+    let mut paths = Vec::new();
+    for given in &info.paths {
+        let path = folder.resolve(given);
+        if path.exists() {
+            paths.push(path);
+        } else {
+            drift.push(Drift::new(
+                DriftKind::InputMissing,
+                given.clone(),
+                format!(
+                    "the path given to the audit is not in {}{written_in}",
+                    folder.base.display()
+                ),
+            ));
         }
     }
-    drift
-}
-
-/// Claims files (by path and hash) and claims (by identifier): every difference.
-fn compare_claims(
-    recorded: &AuditDocument,
-    now: &AuditDocument,
-    strip: &dyn Fn(&str) -> String,
-    drift: &mut Vec<Drift>,
-) {
-    let now_files: BTreeMap<String, &InputFile> = now
-        .claim_files
+    if paths.is_empty() {
+        return Err("none of the audited paths exist".to_string());
+    }
+    // The paths as the audit wrote them: relative ones without the folder's prefix.
+    let prefixes: Vec<(String, String)> = info
+        .paths
         .iter()
-        .map(|f| (strip(&f.path), f))
+        .chain(&recorded.settings.claims)
+        .filter(|p| !Path::new(p.as_str()).is_absolute())
+        .map(|p| (folder.resolve(p).display().to_string(), p.clone()))
         .collect();
-    for file in &recorded.claim_files {
-        match now_files.get(&file.path) {
-            Some(present) if present.sha256 == file.sha256 => {}
-            Some(present) => drift.push(Drift {
-                kind: "claims_file_changed",
-                subject: file.path.clone(),
-                detail: format!(
-                    "content changed: SHA-256 {}… → {}…",
-                    &file.sha256[..12.min(file.sha256.len())],
-                    &present.sha256[..12.min(present.sha256.len())]
-                ),
-            }),
-            None => {}
+    let document =
+        crate::api::audit_paths(&paths, &audit_settings, &ingest_settings).map_err(|e| {
+            let mut message = Value::String(e.to_string());
+            strip_prefixes(&mut message, &prefixes);
+            message.as_str().unwrap_or_default().to_string()
+        })?;
+    let mut present = as_object(&document)?;
+    for value in present.values_mut() {
+        strip_prefixes(value, &prefixes);
+    }
+    if let Some(Value::Object(settings)) = present.get_mut("settings") {
+        let written = serde_json::to_value(&recorded.settings).unwrap_or(Value::Null);
+        settings.insert("map_sections".into(), written["map_sections"].clone());
+        if claims_missing {
+            settings.insert("claims".into(), written["claims"].clone());
         }
     }
-    let now_claims: BTreeMap<&str, &crate::audit::claims::ClaimResult> =
-        now.claims.iter().map(|c| (c.claim.as_str(), c)).collect();
-    for claim in &recorded.claims {
-        match now_claims.get(claim.claim.as_str()) {
-            None => drift.push(Drift {
-                kind: "claim_missing",
-                subject: claim.claim.clone(),
-                detail: format!("{} is no longer in the claims files", claim.source),
-            }),
-            Some(present) => {
-                let mut changes = Vec::new();
-                if present.verdict != claim.verdict {
-                    changes.push(format!(
-                        "verdict {} → {}",
-                        claim.verdict.as_str(),
-                        present.verdict.as_str()
+    Ok(present)
+}
+
+fn as_object(document: &AuditDocument) -> Result<Map<String, Value>, String> {
+    match serde_json::to_value(document) {
+        Ok(Value::Object(map)) => Ok(map),
+        Ok(_) => Err("the document is not an object".into()),
+        Err(error) => Err(error.to_string()),
+    }
+}
+
+/// Replaces, in every string of `value`, each resolved path by the path as recorded.
+fn strip_prefixes(value: &mut Value, prefixes: &[(String, String)]) {
+    match value {
+        Value::String(text) => {
+            for (resolved, recorded) in prefixes {
+                if text.contains(resolved.as_str()) {
+                    *text = text.replace(resolved.as_str(), recorded);
+                }
+            }
+        }
+        Value::Array(items) => items
+            .iter_mut()
+            .for_each(|item| strip_prefixes(item, prefixes)),
+        Value::Object(fields) => fields
+            .values_mut()
+            .for_each(|item| strip_prefixes(item, prefixes)),
+        _ => {}
+    }
+}
+
+/// When the audit cannot be recomputed: each recorded log re-hashed on its own.
+fn rehash_inputs(recorded: &AuditDocument, folder: &Folder, drift: &mut Vec<Drift>) {
+    for input in &recorded.inputs {
+        if folder.escapes(&input.path) {
+            continue;
+        }
+        match std::fs::read(folder.resolve(&input.path)) {
+            Err(_) => drift.push(Drift::new(
+                DriftKind::InputMissing,
+                input.path.clone(),
+                format!("the file is not in {}", folder.base.display()),
+            )),
+            Ok(bytes) => {
+                if hex(&Sha256::digest(&bytes)) != input.sha256 {
+                    drift.push(Drift::new(
+                        DriftKind::InputChanged,
+                        input.path.clone(),
+                        "content changed (SHA-256 differs)",
                     ));
-                }
-                if present.kind != claim.kind
-                    || present.run != claim.run
-                    || present.baseline != claim.baseline
-                    || differs(present.value, claim.value)
-                {
-                    changes
-                        .push("the claim itself was edited (kind, run, baseline or value)".into());
-                }
-                for (name, a, b) in [
-                    ("lower", claim.lower, present.lower),
-                    ("upper", claim.upper, present.upper),
-                ] {
-                    if differs(a, b) {
-                        changes.push(format!("{name} {a} → {b}"));
-                    }
-                }
-                if present.method != claim.method {
-                    changes.push(format!(
-                        "method {} → {}",
-                        claim.method.as_str(),
-                        present.method.as_str()
-                    ));
-                }
-                if !changes.is_empty() {
-                    drift.push(Drift {
-                        kind: "claim_changed",
-                        subject: claim.claim.clone(),
-                        detail: changes.join("; "),
-                    });
                 }
             }
         }
     }
-    let recorded_ids: std::collections::BTreeSet<&str> =
-        recorded.claims.iter().map(|c| c.claim.as_str()).collect();
-    for claim in &now.claims {
-        if !recorded_ids.contains(claim.claim.as_str()) {
-            drift.push(Drift {
-                kind: "claim_added",
-                subject: claim.claim.clone(),
-                detail: format!("{} was not in the certified audit", claim.source),
-            });
-        }
-    }
-}
-
-fn strip_source(strip: &dyn Fn(&str) -> String, source: &str) -> String {
-    match source.rsplit_once(':') {
-        Some((file, row)) => format!("{}:{row}", strip(file)),
-        None => source.to_string(),
-    }
-}
-
-fn differs(a: f64, b: f64) -> bool {
-    if a == b {
-        return false;
-    }
-    (a - b).abs() > NUMERIC_DRIFT_TOLERANCE * a.abs().max(b.abs()).max(1e-300)
-}
-
-fn differs_opt(a: Option<f64>, b: Option<f64>) -> bool {
-    match (a, b) {
-        (Some(a), Some(b)) => differs(a, b),
-        (None, None) => false,
-        _ => true,
-    }
-}
-
-/// Names each field of a run that changed.
-fn compare_runs(recorded: &crate::audit::RunResult, now: &crate::audit::RunResult) -> Vec<String> {
-    let mut changes = Vec::new();
-    if recorded.verdict != now.verdict {
-        changes.push(format!(
-            "verdict {} → {}",
-            recorded.verdict.as_str(),
-            now.verdict.as_str()
-        ));
-    }
-    let numbers: [(&str, f64, f64); 7] = [
-        (
-            "error_upper_bound",
-            recorded.error_upper_bound,
-            now.error_upper_bound,
-        ),
-        (
-            "error_lower_bound",
-            recorded.error_lower_bound,
-            now.error_lower_bound,
-        ),
-        (
-            "binomial_interval_lo",
-            recorded.binomial_interval[0],
-            now.binomial_interval[0],
-        ),
-        (
-            "binomial_interval_hi",
-            recorded.binomial_interval[1],
-            now.binomial_interval[1],
-        ),
-        (
-            "hoeffding_interval_lo",
-            recorded.hoeffding_interval[0],
-            now.hoeffding_interval[0],
-        ),
-        (
-            "hoeffding_interval_hi",
-            recorded.hoeffding_interval[1],
-            now.hoeffding_interval[1],
-        ),
-        (
-            "holdout_error_rate",
-            recorded.holdout_error_rate,
-            now.holdout_error_rate,
-        ),
-    ];
-    for (name, a, b) in numbers {
-        if differs(a, b) {
-            changes.push(format!("{name} {a} → {b}"));
-        }
-    }
-    let optional: [(&str, Option<f64>, Option<f64>); 4] = [
-        ("vc_allowance", recorded.vc_allowance, now.vc_allowance),
-        ("vc_bound", recorded.vc_bound, now.vc_bound),
-        (
-            "claim_error_rate",
-            recorded.claim_error_rate,
-            now.claim_error_rate,
-        ),
-        (
-            "train_error_rate",
-            recorded.train_error_rate,
-            now.train_error_rate,
-        ),
-    ];
-    for (name, a, b) in optional {
-        if differs_opt(a, b) {
-            changes.push(format!("{name} {a:?} → {b:?}"));
-        }
-    }
-    if recorded.holdout_n != now.holdout_n
-        || recorded.holdout_misclassified != now.holdout_misclassified
-    {
-        changes.push(format!(
-            "held-out {}/{} → {}/{}",
-            recorded.holdout_misclassified,
-            recorded.holdout_n,
-            now.holdout_misclassified,
-            now.holdout_n
-        ));
-    }
-    if recorded.candidates != now.candidates {
-        changes.push(format!(
-            "candidates {} → {}",
-            recorded.candidates, now.candidates
-        ));
-    }
-    if recorded.holdout_needed != now.holdout_needed || recorded.train_needed != now.train_needed {
-        changes.push("sample sizes needed changed".into());
-    }
-    changes
 }
 
 /// What `gapcert verify` found: every difference between a certificate and the present.
@@ -595,6 +673,9 @@ fn compare_runs(recorded: &crate::audit::RunResult, now: &crate::audit::RunResul
 pub struct Verification {
     /// The certificate's path, as given.
     pub certificate: String,
+    /// The folder the inputs were read from (absolute); None for the demo's built-in
+    /// logs.
+    pub root: Option<String>,
     /// No drift at all.
     pub verified: bool,
     pub drift: Vec<Drift>,
@@ -610,12 +691,23 @@ pub struct Verification {
 }
 
 /// Reads the certificate at `path`, re-hashes its inputs, recomputes the audit with
-/// the recorded settings and names every difference.
-pub fn verify(path: &Path) -> Result<Verification, Error> {
-    let certificate = read_certificate(path)?;
-    let drift = find_drift(&certificate);
+/// the recorded settings and names every difference. The inputs are read from the
+/// certificate's folder (joined with its `root`), or from `root` when given; a path
+/// that leads out of that folder is an error.
+pub fn verify(path: &Path, root: Option<&Path>) -> Result<Verification, Error> {
+    let read = read_whole(path)?;
+    let certificate = &read.certificate;
+    let folder = if certificate.certificate.demo {
+        None
+    } else {
+        let folder = Folder::of(path, &certificate.certificate, root);
+        check_tree(path, certificate, &folder, root.is_some())?;
+        Some(folder)
+    };
+    let drift = find_drift(&read, folder.as_ref());
     Ok(Verification {
         certificate: path.display().to_string(),
+        root: folder.map(|f| f.base.display().to_string()),
         verified: drift.is_empty(),
         drift,
         inputs: certificate.document.inputs.len(),
@@ -623,4 +715,33 @@ pub fn verify(path: &Path) -> Result<Verification, Error> {
         runs: certificate.document.runs.len(),
         claims: certificate.document.claims.len(),
     })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn folders_relative_to_each_other() {
+        let rel = |a: &str, b: &str| relative_folder(Path::new(a), Path::new(b));
+        assert_eq!(rel("/a/b", "/a/b"), ".");
+        assert_eq!(rel("/a/b/reports", "/a/b"), "..");
+        assert_eq!(rel("/a/b", "/a/b/exp"), "exp");
+        assert_eq!(rel("/a/x/y", "/a/b"), "../../b");
+    }
+
+    #[test]
+    fn names_resolve_without_the_file_system() {
+        assert_eq!(normalize(Path::new("/a/b/../c/./d")), Path::new("/a/c/d"));
+        assert_eq!(normalize(Path::new("/a/../../etc")), Path::new("/etc"));
+        let folder = Folder {
+            base: PathBuf::from("/t/copy"),
+            tree: PathBuf::from("/t/copy"),
+        };
+        assert!(!folder.escapes("logs/runs.csv"));
+        assert!(!folder.escapes("logs/../runs.csv"));
+        assert!(folder.escapes("../runs.csv"));
+        assert!(folder.escapes("/etc/passwd"));
+        assert!(folder.escapes("logs/../../copy2/runs.csv"));
+    }
 }

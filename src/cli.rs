@@ -293,6 +293,10 @@ pub struct VerifyArgs {
     /// A certificate written by `gapcert audit --certificate`.
     #[arg(value_name = "CERTIFICATE")]
     pub certificate: PathBuf,
+    /// Read the inputs from DIR (the folder the audit ran in, or a copy of it) instead
+    /// of the certificate's own folder; paths leading out of DIR are still refused.
+    #[arg(long, value_name = "DIR")]
+    pub root: Option<PathBuf>,
     #[command(flatten)]
     pub format: FormatArgs,
 }

@@ -113,8 +113,10 @@ class Report:
 
     def write_certificate(self, path: PathLike) -> None:
         """Writes a certificate to ``path``: the JSON document, the paths as given,
-        the folder they are relative to, and a seal; ``gapcert verify PATH``
-        re-hashes the inputs, recomputes the audit and exits 1 on any drift.
+        the folder they are relative to (the folder the audit ran in, recorded
+        relative to the certificate's folder), and a seal; ``gapcert verify PATH``
+        re-hashes the inputs, recomputes the audit and exits 1 on any drift. Inputs
+        outside the certificate's folder are read only with ``verify --root DIR``.
 
         Needs logs (and claims files) on disk: an audit of a DataFrame raises
         ``ValueError``, since ``verify`` could not read the frame again."""

@@ -431,12 +431,14 @@ pub fn report_write_certificate(args: &Bound<'_, PyTuple>) -> PyResult<Py<PyAny>
             )));
         }
         check_output(&handle, "write_certificate", &path)?;
-        let mut certificate = gapcert::certificate::certify(&handle.doc, &handle.paths);
         // The paths are relative to the folder the audit ran in, which a notebook may
         // have left (os.chdir) since: record that one, not today's.
-        if let Some(folder) = &handle.working_dir {
-            certificate.certificate.working_dir = folder.display().to_string();
-        }
+        let working_dir = match &handle.working_dir {
+            Some(folder) => folder.clone(),
+            None => std::env::current_dir().unwrap_or_else(|_| PathBuf::from(".")),
+        };
+        let certificate =
+            gapcert::certificate::certify(&handle.doc, &handle.paths, &working_dir, &path);
         report::write_atomically(&path, |out| {
             serde_json::to_writer_pretty(&mut *out, &certificate)?;
             out.write_all(b"\n")

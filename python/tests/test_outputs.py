@@ -37,9 +37,15 @@ def test_write_certificate_and_verify(cli, demo, tmp_path):
     demo.write_certificate(str(path))
     certificate = json.loads(path.read_text())
     assert certificate["certificate"]["paths"] == ["fixtures/demo/runs.csv"]
-    assert certificate["certificate"]["working_dir"] == str(ROOT)
+    # The folder the audit ran in, relative to the certificate's.
+    root = certificate["certificate"]["root"]
+    assert (tmp_path.resolve() / root).resolve() == ROOT.resolve()
+    assert "working_dir" not in certificate["certificate"]
     assert certificate["runs"] == demo.to_dict()["runs"]
-    verified = run_cli(cli, "verify", str(path))
+    # The logs lie outside the certificate's folder: read only when --root says so.
+    refused = run_cli(cli, "verify", str(path))
+    assert refused.returncode == 2 and "--root" in refused.stderr, refused.stderr
+    verified = run_cli(cli, "verify", str(path), "--root", str(ROOT))
     assert verified.returncode == 0, verified.stdout + verified.stderr
 
 
@@ -47,7 +53,9 @@ def test_certificate_records_the_folder_of_the_audit(cli, tmp_path, monkeypatch)
     report = gapcert.audit("fixtures/worked/runs.csv", claims="fixtures/worked/claims.csv")
     monkeypatch.chdir(tmp_path)  # a notebook may change folder after auditing
     report.write_certificate("worked.cert.json")
-    verified = run_cli(cli, "verify", str(tmp_path / "worked.cert.json"))
+    written = json.loads((tmp_path / "worked.cert.json").read_text())
+    assert (tmp_path.resolve() / written["certificate"]["root"]).resolve() == ROOT.resolve()
+    verified = run_cli(cli, "verify", str(tmp_path / "worked.cert.json"), "--root", str(ROOT))
     assert verified.returncode == 0, verified.stdout + verified.stderr
 
 

@@ -549,18 +549,10 @@ fn paired(
     pct(&mut evidence, threshold);
     let _ = write!(evidence, "; one-sided McNemar p = {p:.3e}");
     // Held-out examples needed: more paired examples at the same discordant rates,
-    // counts scaled and rounded against the claim (the run's up, the baseline's down).
-    let holdout_needed = (verdict == Verdict::Unproven
-        && (r as f64 - s as f64) / (n as f64) < threshold)
-        .then(|| {
-            smallest_size(n, |size| {
-                let scale = size as f64 / n as f64;
-                let r2 = ((r as f64) * scale).ceil() as u64;
-                let s2 = ((s as f64) * scale).floor() as u64;
-                r2 + s2 <= size
-                    && comparison::paired_bounds(r2, s2, size, alpha).delta_hi <= threshold
-            })
-        })
+    // counts scaled and rounded against the claim (the run's up, the baseline's down);
+    // the exact smallest size, walking the sawtooth the rounding makes.
+    let holdout_needed = (verdict == Verdict::Unproven)
+        .then(|| comparison::paired_holdout_needed(r, s, n, alpha, threshold))
         .flatten();
     Ok(Decision {
         verdict,

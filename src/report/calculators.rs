@@ -3,7 +3,7 @@
 
 use std::io::{self, Write};
 
-use super::text::{group_thousands, wrap};
+use super::text::{group_thousands, printable, wrap};
 use super::View;
 use crate::calculators::{FamilyList, GrowthTable, HoldoutPlan, ReusePlan, TrainPlan};
 use crate::certificate::Verification;
@@ -198,29 +198,46 @@ impl View for FamilyList {
 
 impl View for Verification {
     fn write_text(&self, out: &mut dyn Write, _width: Option<u16>) -> io::Result<()> {
+        let checked = if self.claim_files == 0 {
+            format!("{} input(s) unchanged", self.inputs)
+        } else {
+            format!(
+                "{} input(s) and {} claims file(s) unchanged",
+                self.inputs, self.claim_files
+            )
+        };
+        let recomputed = if self.claim_files == 0 {
+            format!("{} run(s)", self.runs)
+        } else {
+            format!("{} run(s) and {} claim(s)", self.runs, self.claims)
+        };
+        let folder = match &self.root {
+            Some(root) => format!("inputs read from {}", printable(root)),
+            None => "the demo's built-in logs".to_string(),
+        };
         if self.drift.is_empty() {
-            if self.claim_files == 0 {
-                writeln!(
-                    out,
-                    "{}: verified: {} input(s) unchanged, {} run(s) recomputed with identical results",
-                    self.certificate, self.inputs, self.runs
-                )
-            } else {
-                writeln!(
-                    out,
-                    "{}: verified: {} input(s) and {} claims file(s) unchanged, {} run(s) and {} claim(s) recomputed with identical results",
-                    self.certificate, self.inputs, self.claim_files, self.runs, self.claims
-                )
-            }
+            writeln!(
+                out,
+                "{}: verified ({folder}): {checked}, {recomputed} recomputed with identical results",
+                printable(&self.certificate)
+            )
         } else {
             writeln!(
                 out,
-                "{}: DRIFT ({} difference(s))",
-                self.certificate,
+                "{}: DRIFT ({} difference(s); {folder})",
+                printable(&self.certificate),
                 self.drift.len()
             )?;
+            // Subjects and details quote the certificate, which anyone can edit: no
+            // escape sequence of theirs reaches the terminal.
             for d in &self.drift {
-                writeln!(out, "  {:<16} {}: {}", d.kind, d.subject, d.detail)?;
+                writeln!(
+                    out,
+                    "  {:<16} {}: {}",
+                    d.kind,
+                    printable(&d.subject),
+                    printable(&d.detail)
+                )?;
             }
             Ok(())
         }

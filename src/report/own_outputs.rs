@@ -86,5 +86,6 @@ pub const DOCUMENT_MEMBERS: &[&str] = &[
 ];
 pub const OPTIONAL_DOCUMENT_MEMBERS: usize = 3;
 
-/// Identifies the certificate layout.
-pub const CERTIFICATE_FORMAT: &str = "gapcert-certificate/1";
+/// Identifies the certificate layout written (format 2: `root`, paths relative to
+/// the certificate's folder; format 1 recorded the absolute `working_dir`).
+pub const CERTIFICATE_FORMAT: &str = "gapcert-certificate/2";

@@ -241,3 +241,324 @@ fn demo_certificate_verifies() {
     let (code, report) = verify(dir.path());
     assert_eq!(code, 0, "{report}");
 }
+
+fn edit_certificate(cert: &Path, edit: impl FnOnce(&mut Value)) {
+    let text = std::fs::read_to_string(cert).unwrap();
+    let mut doc: Value = serde_json::from_str(&text).unwrap();
+    edit(&mut doc);
+    std::fs::write(cert, serde_json::to_string_pretty(&doc).unwrap()).unwrap();
+}
+
+/// Issue 23, item 1: every field is recomputed, so a forged headline, split or an
+/// added key is drift named by its path.
+#[test]
+fn forged_headline_splits_and_added_keys_are_drift_named_by_path() {
+    let (dir, cert) = certified_folder();
+    edit_certificate(&cert, |doc| {
+        assert_eq!(doc["summary"]["gate"], "fail");
+        doc["summary"]["gate"] = "pass".into();
+        doc["summary"]["claims_certified"] = 3.into();
+        let splits = doc["splits"].as_array_mut().unwrap();
+        assert!(!splits.is_empty());
+        for split in splits {
+            split["comparisons_left"] = 100000.into();
+        }
+        doc["runs"][3]["extra_key"] = "forged".into();
+        doc["certificate"]["signed_by"] = "nobody".into();
+        doc["reviewed"] = true.into();
+    });
+    let (code, report) = verify(dir.path());
+    assert_eq!(code, 1, "{report}");
+    let kinds = drift_kinds(&report);
+    for subject in [
+        "summary.gate",
+        "summary.claims_certified",
+        "splits[0].comparisons_left",
+        "reviewed",
+        "certificate.signed_by",
+    ] {
+        assert!(
+            kinds.iter().any(|(_, s)| s == subject),
+            "{subject}: {kinds:?}"
+        );
+    }
+    let details: Vec<&str> = report["drift"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .filter(|d| d["kind"] == "run_changed")
+        .map(|d| d["detail"].as_str().unwrap())
+        .collect();
+    assert!(
+        details.iter().any(|d| d.contains("runs[3].extra_key")),
+        "{details:?}"
+    );
+    // Each forged split is named.
+    let splits = kinds
+        .iter()
+        .filter(|(k, s)| k == "field_changed" && s.ends_with("].comparisons_left"))
+        .count();
+    assert!(splits >= 2, "{kinds:?}");
+}
+
+/// Copies the certified folder (logs and certificate) to a new folder.
+fn copy_of(dir: &Path) -> tempfile::TempDir {
+    let copy = tempfile::tempdir().unwrap();
+    std::fs::create_dir(copy.path().join("logs")).unwrap();
+    for name in ["logs/demo.csv", "logs/worked.csv", "audit.cert.json"] {
+        std::fs::copy(dir.join(name), copy.path().join(name)).unwrap();
+    }
+    copy
+}
+
+/// Issue 23, item 2: verify reads the reviewer's copy beside the certificate, never the
+/// folder the audit ran in, and says which folder it read.
+#[test]
+fn verify_reads_the_copy_beside_the_certificate() {
+    let (dir, _) = certified_folder();
+    let copy = copy_of(dir.path());
+    let log = copy.path().join("logs/worked.csv");
+    let text = std::fs::read_to_string(&log).unwrap();
+    std::fs::write(&log, text.replacen(",68,", ",69,", 1)).unwrap();
+    // Run from elsewhere: the certificate's folder decides, not the working folder.
+    let output = gapcert_in(
+        dir.path(),
+        &[
+            "verify",
+            copy.path().join("audit.cert.json").to_str().unwrap(),
+        ],
+    );
+    assert_eq!(output.status.code(), Some(1), "{}", common::stdout(&output));
+    let text = common::stdout(&output);
+    assert!(
+        text.contains("input_changed") && text.contains("logs/worked.csv"),
+        "{text}"
+    );
+    let copy_folder = std::fs::canonicalize(copy.path()).unwrap();
+    assert!(text.contains(&copy_folder.display().to_string()), "{text}");
+    // With the original gone, nothing is looked up there: a file missing in the copy
+    // is missing.
+    std::fs::remove_file(copy.path().join("logs/demo.csv")).unwrap();
+    drop(dir);
+    let output = gapcert_in(
+        copy.path(),
+        &["verify", "audit.cert.json", "--format", "json"],
+    );
+    assert_eq!(output.status.code(), Some(1));
+    let report: Value = serde_json::from_slice(&output.stdout).unwrap();
+    let kinds = drift_kinds(&report);
+    assert!(
+        kinds.contains(&("input_missing".into(), "logs/demo.csv".into())),
+        "{kinds:?}"
+    );
+}
+
+/// `--root DIR` reads the inputs from DIR instead, and says so.
+#[test]
+fn root_names_the_folder_to_verify() {
+    let (dir, _) = certified_folder();
+    let copy = copy_of(dir.path());
+    let log = copy.path().join("logs/worked.csv");
+    let text = std::fs::read_to_string(&log).unwrap();
+    std::fs::write(&log, text.replacen(",68,", ",69,", 1)).unwrap();
+    // The copy's certificate checked against the untouched original.
+    let output = gapcert_in(
+        copy.path(),
+        &[
+            "verify",
+            "audit.cert.json",
+            "--root",
+            dir.path().to_str().unwrap(),
+        ],
+    );
+    assert_eq!(output.status.code(), Some(0), "{}", common::stdout(&output));
+    let original = std::fs::canonicalize(dir.path()).unwrap();
+    assert!(
+        common::stdout(&output).contains(&original.display().to_string()),
+        "{}",
+        common::stdout(&output)
+    );
+}
+
+/// Issue 24, item 9: a certificate cannot make verify read files outside its folder.
+#[test]
+fn paths_leading_out_of_the_certificate_folder_are_refused() {
+    for (paths, root) in [
+        (vec!["/etc/passwd"], "."),
+        (vec!["logs", "../elsewhere/logs"], "."),
+        (vec!["logs"], "../.."),
+    ] {
+        let (dir, cert) = certified_folder();
+        edit_certificate(&cert, |doc| {
+            doc["certificate"]["paths"] = serde_json::json!(paths);
+            doc["certificate"]["root"] = root.into();
+        });
+        let output = gapcert_in(dir.path(), &["verify", "audit.cert.json"]);
+        assert_eq!(output.status.code(), Some(2), "{paths:?} {root}");
+        let err = common::stderr(&output);
+        assert!(
+            err.contains("refusing to read") && err.contains("--root"),
+            "{err}"
+        );
+        assert!(output.stdout.is_empty());
+    }
+}
+
+/// Issue 24, item 10: an editor that saves with a byte-order mark does not break it.
+#[test]
+fn a_certificate_saved_with_a_byte_order_mark_verifies() {
+    let (dir, cert) = certified_folder();
+    let mut bytes = vec![0xEF, 0xBB, 0xBF];
+    bytes.extend(std::fs::read(&cert).unwrap());
+    std::fs::write(&cert, bytes).unwrap();
+    let (code, report) = verify(dir.path());
+    assert_eq!(code, 0, "{report}");
+}
+
+/// Certificates of format 1 recorded the absolute folder of the audit; they still
+/// verify, from their own folder.
+#[test]
+fn format_1_certificates_still_verify() {
+    let (dir, cert) = certified_folder();
+    edit_certificate(&cert, |doc| {
+        let section = doc["certificate"].as_object_mut().unwrap();
+        section.insert("format".into(), "gapcert-certificate/1".into());
+        section.remove("root");
+        section.insert("working_dir".into(), "/nowhere/that/exists".into());
+    });
+    let (code, report) = verify(dir.path());
+    assert_eq!(code, 0, "{report}");
+}
+
+/// A certificate written in a subfolder records the folder the audit ran in relative to
+/// its own (`..`); the inputs then lie outside the certificate's folder, so verify reads
+/// them only when `--root` names that folder (here after moving both together).
+#[test]
+fn a_certificate_in_a_subfolder_needs_root_to_read_inputs_outside_it() {
+    let (dir, _) = certified_folder();
+    std::fs::create_dir(dir.path().join("reports")).unwrap();
+    let output = gapcert_in(
+        dir.path(),
+        &[
+            "audit",
+            "logs/worked.csv",
+            "--certificate",
+            "reports/worked.cert.json",
+            "-q",
+        ],
+    );
+    assert_eq!(output.status.code(), Some(1), "{}", common::stderr(&output));
+    let cert: Value = serde_json::from_str(
+        &std::fs::read_to_string(dir.path().join("reports/worked.cert.json")).unwrap(),
+    )
+    .unwrap();
+    assert_eq!(cert["certificate"]["root"], "..");
+    assert!(cert["certificate"].get("working_dir").is_none());
+    let moved = tempfile::tempdir().unwrap();
+    std::fs::create_dir_all(moved.path().join("logs")).unwrap();
+    std::fs::create_dir_all(moved.path().join("reports")).unwrap();
+    for name in ["logs/worked.csv", "reports/worked.cert.json"] {
+        std::fs::copy(dir.path().join(name), moved.path().join(name)).unwrap();
+    }
+    drop(dir);
+    // The inputs lie outside the certificate's folder: read only when --root says so.
+    let output = gapcert_in(moved.path(), &["verify", "reports/worked.cert.json"]);
+    assert_eq!(output.status.code(), Some(2), "{}", common::stdout(&output));
+    let err = common::stderr(&output);
+    assert!(
+        err.contains("`logs/worked.csv`") && err.contains("--root"),
+        "{err}"
+    );
+    let output = gapcert_in(
+        moved.path(),
+        &["verify", "reports/worked.cert.json", "--root", "."],
+    );
+    assert_eq!(output.status.code(), Some(0), "{}", common::stdout(&output));
+}
+
+/// Drift lines quote the certificate, which anyone can edit: an escape sequence
+/// planted in it does not reach the terminal.
+#[test]
+fn drift_lines_carry_no_escape_sequences() {
+    let (dir, cert) = certified_folder();
+    edit_certificate(&cert, |doc| {
+        doc["reviewer"] = "\u{1b}]8;;https://example.invalid\u{7}approved\u{1b}[0m".into();
+        doc["\u{1b}[31mkey"] = 1.into();
+    });
+    let output = gapcert_in(dir.path(), &["verify", "audit.cert.json"]);
+    assert_eq!(output.status.code(), Some(1));
+    let text = common::stdout(&output);
+    assert!(
+        text.contains("reviewer") && text.contains("approved"),
+        "{text}"
+    );
+    assert!(
+        !text.contains('\u{1b}') && !text.contains('\u{7}'),
+        "{text:?}"
+    );
+}
+
+/// Absolute paths inside the folder the audit ran in are written relative to it, so a
+/// copy of the folder verifies (and an edited copy drifts).
+#[test]
+fn absolute_paths_inside_the_audit_folder_are_written_relative() {
+    let dir = tempfile::tempdir().unwrap();
+    let folder = std::fs::canonicalize(dir.path()).unwrap();
+    std::fs::create_dir(folder.join("logs")).unwrap();
+    std::fs::copy(
+        common::root().join("fixtures/worked/runs.csv"),
+        folder.join("logs/worked.csv"),
+    )
+    .unwrap();
+    std::fs::copy(
+        common::root().join("fixtures/worked/claims.csv"),
+        folder.join("claims.csv"),
+    )
+    .unwrap();
+    let logs = folder.join("logs");
+    let claims = folder.join("claims.csv");
+    let output = gapcert_in(
+        &folder,
+        &[
+            "audit",
+            logs.to_str().unwrap(),
+            "--claims",
+            claims.to_str().unwrap(),
+            "--certificate",
+            "audit.cert.json",
+            "-q",
+        ],
+    );
+    assert_eq!(output.status.code(), Some(1), "{}", common::stderr(&output));
+    let text = std::fs::read_to_string(folder.join("audit.cert.json")).unwrap();
+    assert!(
+        !text.contains(&folder.display().to_string()),
+        "an absolute path is left in the certificate"
+    );
+    let cert: Value = serde_json::from_str(&text).unwrap();
+    assert_eq!(cert["certificate"]["paths"], serde_json::json!(["logs"]));
+    assert_eq!(cert["inputs"][0]["path"], "logs/worked.csv");
+    assert_eq!(
+        cert["settings"]["claims"],
+        serde_json::json!(["claims.csv"])
+    );
+    let copy = tempfile::tempdir().unwrap();
+    std::fs::create_dir(copy.path().join("logs")).unwrap();
+    for name in ["logs/worked.csv", "claims.csv", "audit.cert.json"] {
+        std::fs::copy(folder.join(name), copy.path().join(name)).unwrap();
+    }
+    let verified = gapcert_in(copy.path(), &["verify", "audit.cert.json"]);
+    assert_eq!(
+        verified.status.code(),
+        Some(0),
+        "{}",
+        common::stdout(&verified)
+    );
+    let log = copy.path().join("logs/worked.csv");
+    let edited = std::fs::read_to_string(&log)
+        .unwrap()
+        .replacen(",68,", ",69,", 1);
+    std::fs::write(&log, edited).unwrap();
+    let drift = gapcert_in(copy.path(), &["verify", "audit.cert.json"]);
+    assert_eq!(drift.status.code(), Some(1), "{}", common::stdout(&drift));
+}

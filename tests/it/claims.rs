@@ -379,3 +379,62 @@ fn certificates_seal_claims_and_verify_names_their_drift() {
     let text = stdout(&gapcert_in(dir.path(), &["verify", "cert.json"]));
     assert!(text.contains("claims_edited"), "{text}");
 }
+
+/// Paired `beats` claims on the runs `a` (50 errors) and `b` (60) of one split of
+/// 1,000 examples: the held-out examples needed is the smallest size that certifies,
+/// found here by trying every size (counts scaled from the claim's, the run's rounded
+/// up and the baseline's down, bounds from `theory::comparison::paired_bounds`). The
+/// rounding makes the size ↦ bound map a sawtooth; a bisection over sizes answered
+/// 2,834 for the first claim, where 2,700 certifies (issue 23, item 9).
+#[test]
+fn paired_holdout_needed_is_the_smallest_certifying_size() {
+    let dir = tempfile::tempdir().unwrap();
+    std::fs::write(dir.path().join("log.csv"), LOG).unwrap();
+    // k_a − r = k_b − s = examples both got wrong.
+    let claims = "claim,kind,run,baseline,value,run_only_errors,baseline_only_errors\n\
+        p20,beats,a,b,0,20,30\n\
+        p20-margin,beats,a,b,0.005,20,30\n\
+        p12,beats,a,b,0.005,12,22\n\
+        p33,beats,a,b,0,33,43\n\
+        p5,beats,a,b,0.005,5,15\n";
+    std::fs::write(dir.path().join("claims.csv"), claims).unwrap();
+    let output = gapcert_in(
+        dir.path(),
+        &[
+            "audit",
+            "log.csv",
+            "--claims",
+            "claims.csv",
+            "--format",
+            "json",
+            "--gate",
+            "never",
+        ],
+    );
+    assert_eq!(output.status.code(), Some(0), "{}", stderr(&output));
+    let doc: Value = serde_json::from_slice(&output.stdout).unwrap();
+    let n: u64 = 1000;
+    for (id, r, s) in [
+        ("p20", 20, 30),
+        ("p20-margin", 20, 30),
+        ("p12", 12, 22),
+        ("p33", 33, 43),
+        ("p5", 5, 15),
+    ] {
+        let got = claim(&claims_of(&doc), id).clone();
+        assert_eq!(got["method"], "paired", "{id}");
+        assert_eq!(got["verdict"], "unproven", "{id}");
+        let alpha = got["delta"].as_f64().unwrap();
+        let threshold = got["threshold"].as_f64().unwrap();
+        let certifies = |size: u64| {
+            let r_size = (r * size).div_ceil(n);
+            let s_size = s * size / n;
+            r_size + s_size <= size
+                && gapcert::theory::comparison::paired_bounds(r_size, s_size, size, alpha).delta_hi
+                    <= threshold
+        };
+        let smallest = (n + 1..=100 * n).find(|&size| certifies(size));
+        assert!(smallest.is_some(), "{id}: widen the scan");
+        assert_eq!(got["holdout_needed"].as_u64(), smallest, "{id}");
+    }
+}
