@@ -28,7 +28,7 @@ use rayon::prelude::*;
 use crate::audit::claims::{evaluate_claims, ClaimResult};
 use crate::audit::splits::{SplitAccumulator, SplitEntry};
 use crate::audit::{AuditScope, AuditSettings, Auditor, RunResult, Summary, Verdict};
-use crate::claim::{matches_pattern, ClaimInput};
+use crate::claim::{ClaimInput, PatternIndex};
 use crate::error::Error;
 use crate::ingest::claims::{read_claims, ClaimsRead, ClaimsSource};
 use crate::ingest::{
@@ -376,17 +376,17 @@ fn first_pass<'a>(
 /// Which of the runs' identifiers the claims name: exactly (a run or a baseline), or
 /// by pattern. Only those runs are kept for deciding the claims.
 struct ClaimNames {
-    exact: std::collections::HashSet<String>,
-    patterns: Vec<String>,
+    exact: foldhash::HashSet<String>,
+    patterns: PatternIndex,
 }
 
 impl ClaimNames {
     fn of(claims: &[ClaimInput]) -> ClaimNames {
-        let mut exact = std::collections::HashSet::new();
+        let mut exact = foldhash::HashSet::default();
         let mut patterns = Vec::new();
         for claim in claims {
             if claim.is_pattern() {
-                patterns.push(claim.run.clone());
+                patterns.push(claim.run.as_str());
             } else {
                 exact.insert(claim.run.clone());
             }
@@ -394,15 +394,14 @@ impl ClaimNames {
         }
         patterns.sort_unstable();
         patterns.dedup();
-        ClaimNames { exact, patterns }
+        ClaimNames {
+            exact,
+            patterns: PatternIndex::new(&patterns),
+        }
     }
 
     fn names(&self, run: &str) -> bool {
-        self.exact.contains(run)
-            || self
-                .patterns
-                .iter()
-                .any(|pattern| matches_pattern(pattern, run))
+        self.exact.contains(run) || self.patterns.matches_any(run)
     }
 }
 

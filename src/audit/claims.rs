@@ -27,7 +27,7 @@ use serde::{Deserialize, Serialize};
 use super::per_run::one_sided_bounds;
 use super::result::{RunResult, Verdict};
 use super::settings::{AuditSettings, HoldoutBound};
-use crate::claim::{matches_pattern, ClaimInput, ClaimKind};
+use crate::claim::{ClaimInput, ClaimKind, PatternIndex};
 use crate::decimal::{group_thousands, push_percent};
 use crate::error::Problem;
 use crate::theory::{binomial, comparison, sample_size, vc};
@@ -103,10 +103,13 @@ pub fn evaluate_claims(
     for (index, run) in runs.iter().enumerate() {
         by_name.entry(run.run.as_str()).or_default().push(index);
     }
+    // Each pattern compiled once and every run matched against all of them at once
+    // (an index by literal prefix): the runs each pattern matches, in input order.
+    let matching = PatternMatches::of(claims, runs);
     let mut results = Vec::with_capacity(claims.len());
     let mut problems = Vec::new();
     for claim in claims {
-        match evaluate(claim, runs, &by_name, settings, delta) {
+        match evaluate(claim, runs, &by_name, &matching, settings, delta) {
             Ok(result) => results.push(result),
             Err(found) => problems.extend(found),
         }
@@ -115,6 +118,42 @@ pub fn evaluate_claims(
         Ok(results)
     } else {
         Err(problems)
+    }
+}
+
+/// The runs each pattern of the claims matches, in input order: every pattern
+/// compiled once and every run matched against all of them at once (an index by
+/// literal prefix, [`PatternIndex`]), not each pattern scanning every run.
+struct PatternMatches<'a> {
+    /// The distinct patterns, sorted.
+    patterns: Vec<&'a str>,
+    /// Per pattern, the indices of the runs it matches.
+    matched: Vec<Vec<usize>>,
+}
+
+impl<'a> PatternMatches<'a> {
+    fn of(claims: &'a [ClaimInput], runs: &[RunResult]) -> PatternMatches<'a> {
+        let mut patterns: Vec<&str> = claims
+            .iter()
+            .filter(|c| c.is_pattern())
+            .map(|c| c.run.as_str())
+            .collect();
+        patterns.sort_unstable();
+        patterns.dedup();
+        let index = PatternIndex::new(&patterns);
+        let mut matched: Vec<Vec<usize>> = vec![Vec::new(); patterns.len()];
+        if !index.is_empty() {
+            for (at, run) in runs.iter().enumerate() {
+                index.for_each_match(&run.run, |pattern| matched[pattern].push(at));
+            }
+        }
+        PatternMatches { patterns, matched }
+    }
+
+    fn runs_of(&self, pattern: &str) -> &[usize] {
+        self.patterns
+            .binary_search(&pattern)
+            .map_or(&[][..], |at| self.matched[at].as_slice())
     }
 }
 
@@ -154,13 +193,15 @@ fn evaluate(
     claim: &ClaimInput,
     runs: &[RunResult],
     by_name: &HashMap<&str, Vec<usize>>,
+    matching: &PatternMatches<'_>,
     settings: &AuditSettings,
     delta: f64,
 ) -> Result<ClaimResult, Vec<Problem>> {
     let matched: Vec<&RunResult> = if claim.is_pattern() {
-        let matched: Vec<&RunResult> = runs
+        let matched: Vec<&RunResult> = matching
+            .runs_of(&claim.run)
             .iter()
-            .filter(|r| matches_pattern(&claim.run, &r.run))
+            .map(|&at| &runs[at])
             .collect();
         if matched.is_empty() {
             return Err(vec![Problem::cell(
