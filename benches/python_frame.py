@@ -13,7 +13,8 @@ this script and the release binary built):
 Each round runs the two sides alternately, each in a fresh process under
 /usr/bin/time -v (peak RSS); the Python side reads the CSV into a polars frame first
 and times only `gapcert.audit(frame)` + `report.runs`. Prints the medians and the
-ratio. `--explain` times `explain=True` instead.
+ratio. `--explain` times `explain=True` instead; `--python VENV/bin/python` times the
+package installed there (an earlier build, for a before/after comparison).
 """
 
 from __future__ import annotations
@@ -31,7 +32,7 @@ PYTHON_SIDE = r"""
 import sys, time, polars as pl, gapcert
 frame = pl.read_csv(sys.argv[1], infer_schema_length=100000)
 started = time.perf_counter()
-report = gapcert.audit(frame, explain=sys.argv[2] == "1")
+report = gapcert.audit(frame, **({"explain": True} if sys.argv[2] == "1" else {}))
 runs = report.runs
 took = time.perf_counter() - started
 assert runs.height == report.summary["runs"]
@@ -57,9 +58,9 @@ def cli_round(binary: str, log: str, output: str):
     return took, peak_rss_gb(done.stderr)
 
 
-def python_round(log: str, explain: bool):
+def python_round(python: str, log: str, explain: bool):
     done = subprocess.run(
-        ["/usr/bin/time", "-v", sys.executable, "-c", PYTHON_SIDE, log, "1" if explain else "0"],
+        ["/usr/bin/time", "-v", python, "-c", PYTHON_SIDE, log, "1" if explain else "0"],
         capture_output=True,
         text=True,
     )
@@ -75,13 +76,18 @@ def main() -> None:
     parser.add_argument("--binary", default="target/release/gapcert")
     parser.add_argument("--rounds", type=int, default=5)
     parser.add_argument("--explain", action="store_true")
+    parser.add_argument(
+        "--python",
+        default=sys.executable,
+        help="the interpreter whose gapcert is timed (say, a venv with an earlier build)",
+    )
     args = parser.parse_args()
     with tempfile.TemporaryDirectory() as folder:
         output = str(Path(folder) / "runs.ndjson")
         cli, python = [], []
         for round_ in range(args.rounds):
             cli.append(cli_round(args.binary, args.log, output))
-            python.append(python_round(args.log, args.explain))
+            python.append(python_round(args.python, args.log, args.explain))
             print(
                 f"round {round_ + 1}: command line {cli[-1][0]:.2f} s ({cli[-1][1]:.2f} GB), "
                 f"python {python[-1][0]:.2f} s ({python[-1][1]:.2f} GB)",
