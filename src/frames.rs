@@ -62,21 +62,13 @@ pub fn runs_frame(runs: &[RunResult], explain: bool) -> PolarsResult<DataFrame> 
     if !explain {
         return frame.drop("explanation");
     }
-    let messages: Vec<Series> = runs
-        .iter()
-        .map(|run| {
-            let sentences: Vec<&str> = run.findings.iter().map(|f| f.message.as_str()).collect();
-            Series::new(PlSmallStr::EMPTY, sentences)
-        })
-        .collect();
-    let messages = if messages.is_empty() {
-        Series::new_empty(
-            FINDING_MESSAGES.into(),
-            &DataType::List(Box::new(DataType::String)),
-        )
-    } else {
-        Series::new(FINDING_MESSAGES.into(), messages)
-    };
+    let sentences: usize = runs.iter().map(|run| run.findings.len()).sum();
+    let mut messages =
+        ListStringChunkedBuilder::new(FINDING_MESSAGES.into(), runs.len(), sentences);
+    for run in runs {
+        messages.append_values_iter(run.findings.iter().map(|f| f.message.as_str()));
+    }
+    let messages = messages.finish().into_series();
     let at = frame
         .get_column_index("findings")
         .map_or(frame.width(), |at| at + 1);
