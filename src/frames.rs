@@ -123,14 +123,3 @@ pub fn claim_rows_worst_first(claims: &[ClaimResult]) -> Vec<usize> {
         .map(|claim| (claim as *const ClaimResult as usize - start) / size)
         .collect()
 }
-
-/// The `keep` worst runs of `prepared`, worst first as the table and the HTML page
-/// list them ([`PreparedAudit::keep_worst`]), with their sentences: the few rows a
-/// view of a large audit shows, without keeping every run.
-pub fn worst_runs(
-    prepared: PreparedAudit<'_>,
-    audit_settings: &AuditSettings,
-    keep: usize,
-) -> Result<Vec<RunResult>, Error> {
-    Ok(prepared.keep_worst(audit_settings, keep, &[])?.runs)
-}

@@ -71,7 +71,9 @@ class Report:
     def worst_runs(self, n: int = _SHOWN_RUNS) -> pl.DataFrame:
         """The ``n`` worst runs, worst first (refuted, unproven, certified, no
         claim; within a verdict the largest excess of the upper bound over the
-        claim first), as the table and the HTML page order them."""
+        claim first), as the table and the HTML page order them. The library audits
+        the logs again to find them, keeping only those ``n`` (the report holds no
+        run objects)."""
         if isinstance(n, bool) or not isinstance(n, int) or n < 0:
             raise ValueError(f"n must be a whole number >= 0, not {n!r}")
         return self._worst(n)[0]

@@ -405,23 +405,31 @@ fn lock<T>(mutex: &Mutex<T>) -> std::sync::MutexGuard<'_, T> {
         .unwrap_or_else(|poisoned| poisoned.into_inner())
 }
 
-/// The document with every run and its sentences: audited again the first time an
-/// output needs it, and refused if an input changed since the audit (its runs would
-/// not be the ones `.runs` shows).
-fn full_document(py: Python<'_>, handle: &AuditHandle) -> PyResult<Arc<AuditDocument>> {
-    if let Some(doc) = lock(&handle.full).as_ref() {
-        return Ok(Arc::clone(doc));
-    }
-    let (_, doc) = handle
-        .replay
-        .run(py, |prepared, settings| prepared.collect(settings))?;
+/// The document of `finish` over the logs audited again, refused if an input changed
+/// since the audit (its runs would not be the ones `.runs` shows).
+fn audit_again<F>(py: Python<'_>, handle: &AuditHandle, finish: F) -> PyResult<AuditDocument>
+where
+    F: FnOnce(PreparedAudit<'_>, &AuditSettings) -> Result<AuditDocument, Error> + Send,
+{
+    let (_, doc) = handle.replay.run(py, finish)?;
     if doc.inputs != handle.doc.inputs || doc.claim_files != handle.doc.claim_files {
         return Err(Error::Usage(
             "the logs or claims files changed on disk after this audit, so its report cannot be written from them; audit them again".into(),
         ))
         .py_err(py);
     }
-    let doc = Arc::new(doc);
+    Ok(doc)
+}
+
+/// The document with every run and its sentences: audited again the first time an
+/// output needs it.
+fn full_document(py: Python<'_>, handle: &AuditHandle) -> PyResult<Arc<AuditDocument>> {
+    if let Some(doc) = lock(&handle.full).as_ref() {
+        return Ok(Arc::clone(doc));
+    }
+    let doc = Arc::new(audit_again(py, handle, |prepared, settings| {
+        prepared.collect(settings)
+    })?);
     *lock(&handle.full) = Some(Arc::clone(&doc));
     Ok(doc)
 }
@@ -520,10 +528,11 @@ pub fn report_worst_runs(args: &Bound<'_, PyTuple>) -> PyResult<Py<PyAny>> {
     let worst: Vec<(String, String)> = if n == 0 || handle.doc.summary.runs == 0 {
         Vec::new()
     } else {
-        let (_, runs) = handle.replay.run(py, |prepared, settings| {
-            frames::worst_runs(prepared, settings, n)
+        let doc = audit_again(py, &handle, |prepared, settings| {
+            prepared.keep_worst(settings, n, &[])
         })?;
-        runs.into_iter()
+        doc.runs
+            .into_iter()
             .map(|run| (run.source, run.explanation))
             .collect()
     };

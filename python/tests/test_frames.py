@@ -94,6 +94,8 @@ def test_outputs_refuse_a_log_changed_since_the_audit(tmp_path, monkeypatch):
         report.to_json()
     assert "changed" in str(raised.value)
     with pytest.raises(ValueError):
+        report.worst_runs(3)
+    with pytest.raises(ValueError):
         report.write_certificate(tmp_path / "runs.cert.json")
     assert not (tmp_path / "runs.cert.json").exists()
     assert report.runs is runs  # the frame read before stays
