@@ -150,6 +150,7 @@ def audit(
     keep: Union[str, Iterable[str], None] = None,
     separator: Optional[str] = None,
     decimal_comma: bool = False,
+    explain: bool = False,
 ) -> Report:
     """Reads run logs and audits every run: the same audit as ``gapcert audit``.
 
@@ -190,6 +191,11 @@ def audit(
     - ``separator``: the field separator of CSV logs (one character, ``"\\t"``
       for a tab), for spreadsheet exports; ``decimal_comma``: numbers written
       ``0,95``.
+    - ``explain``: the frames carry the sentences too: ``.runs`` gets
+      ``explanation`` (why the verdict) and ``finding_messages`` (each finding's
+      sentence, in the order of the codes in ``findings``). Without it they carry
+      codes and numbers only (SPEC §7), which at a million runs is faster and
+      smaller; :meth:`Report.to_json` and the HTML page always have the sentences.
 
     Returns a :class:`Report`. Raises :class:`InputError` (a ``ValueError``)
     listing every problem of the logs or claims with file, row and column;
@@ -218,5 +224,6 @@ def audit(
         "keep": _keep(keep),
         "separator": None if separator is None else _text("separator", separator),
         "decimal_comma": _flag("decimal_comma", decimal_comma),
+        "explain": _flag("explain", explain),
     }
     return Report(_core.audit(logs, claim_entries, options))

@@ -78,6 +78,7 @@ def audit(
     keep: Union[str, Iterable[str], None] = None,
     separator: Optional[str] = None,
     decimal_comma: bool = False,
+    explain: bool = False,
 ) -> Report: ...
 def upper_bound(
     errors: int,

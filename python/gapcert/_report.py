@@ -36,17 +36,21 @@ class Report:
 
     def _frame(self, which: Literal["runs", "claims", "splits"]) -> pl.DataFrame:
         if which not in self._cache:
-            data = _core.report_frame(self._result, which)
-            self._cache[which] = pl.read_ipc(io.BytesIO(data))
+            parts = _core.report_frame(self._result, which)
+            frames = []
+            while parts:  # each part freed once read
+                frames.append(pl.read_ipc(io.BytesIO(parts.pop(0))))
+            self._cache[which] = frames[0] if len(frames) == 1 else pl.concat(frames, rechunk=False)
         return self._cache[which]
 
     @property
     def runs(self) -> pl.DataFrame:
         """One row per run, in input order, with the flat per-run columns of
         ``--format csv`` / ``parquet``: the bounds (intervals as ``_lo`` / ``_hi``
-        columns), ``verdict``, ``explanation``, ``certifiable_accuracy``,
-        ``holdout_needed``, ``train_needed`` and ``findings`` (codes joined by
-        ``;``; the sentences are in :meth:`to_json`)."""
+        columns), ``verdict``, ``certifiable_accuracy``, ``holdout_needed``,
+        ``train_needed`` and ``findings`` (codes joined by ``;``). The sentences
+        (``explanation``, ``finding_messages``) only with ``explain=True``; they
+        are always in :meth:`to_json`."""
         return self._frame("runs")
 
     @property
@@ -67,11 +71,27 @@ class Report:
     def worst_runs(self, n: int = _SHOWN_RUNS) -> pl.DataFrame:
         """The ``n`` worst runs, worst first (refuted, unproven, certified, no
         claim; within a verdict the largest excess of the upper bound over the
-        claim first), as the table and the HTML page order them."""
+        claim first), as the table and the HTML page order them. The library audits
+        the logs again to find them, keeping only those ``n`` (the report holds no
+        run objects)."""
         if isinstance(n, bool) or not isinstance(n, int) or n < 0:
             raise ValueError(f"n must be a whole number >= 0, not {n!r}")
-        rows = _core.report_worst_runs(self._result, n)
-        return self.runs[rows] if rows else self.runs.clear()
+        return self._worst(n)[0]
+
+    def _worst(self, n: int):
+        """The ``n`` worst runs (rows of :attr:`runs`) and the sentence explaining
+        each verdict."""
+        worst = _core.report_worst_runs(self._result, n)
+        if not worst:
+            return self.runs.clear(), []
+        sources = [source for source, _ in worst]
+        found = (
+            self.runs.select(pl.col("source"))
+            .with_row_index("row")
+            .filter(pl.col("source").is_in(sources))
+        )
+        row_of = dict(zip(found["source"].to_list(), found["row"].to_list()))
+        return self.runs[[row_of[source] for source in sources]], [why for _, why in worst]
 
     # The document ----------------------------------------------------------
 
@@ -92,7 +112,11 @@ class Report:
     def to_json(self) -> str:
         """The JSON document, exactly as ``gapcert audit --format json`` writes it
         (SPEC §7): tool, generated_at, settings, inputs, runs, claims, splits,
-        summary, skipped rows and files, cautions."""
+        summary, skipped rows and files, cautions.
+
+        The first call (or :meth:`write_html`, :meth:`write_certificate`) audits the
+        logs again to write every run's sentences, and raises ``ValueError`` if a
+        log or claims file changed on disk since the audit."""
         return _core.report_json(self._result)
 
     def to_dict(self) -> Dict[str, Any]:
@@ -222,10 +246,10 @@ def _notebook_html(report: Report) -> str:
             title += f" ({len(order)} of {claims.height})"
         parts.append(f"<p><strong>{_text(title)}</strong></p>")
         parts.append(_table(["claim", "statement", "verdict", "evidence"], rows))
-    worst = report.worst_runs(_SHOWN_RUNS)
+    worst, explanations = report._worst(_SHOWN_RUNS)
     if worst.height:
         rows = []
-        for run in worst.iter_rows(named=True):
+        for run, explanation in zip(worst.iter_rows(named=True), explanations):
             claim = run["claim_error_rate"]
             rows.append(
                 [
@@ -235,7 +259,7 @@ def _notebook_html(report: Report) -> str:
                     _text(_percent(run["error_upper_bound"])),
                     _text(_percent(None if claim is None else 1 - claim)),
                     _text(_percent(run["certifiable_accuracy"])),
-                    _text(run["explanation"]),
+                    _text(explanation),
                 ]
             )
         title = "Runs, worst first"

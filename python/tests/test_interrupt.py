@@ -98,7 +98,9 @@ def test_ctrl_c_stops_an_audit_of_one_large_log(big_log):
     # The library checks the flag once the file is read (about 2 s for 2 million
     # rows), not during the 20 s of the audit proper.
     assert took < 8.0, f"KeyboardInterrupt {took:.2f} s after SIGINT"
-    assert _tasks() == threads, "the worker thread was not joined"
+    # At most as many: a thread an earlier test left (a pool's idle worker) may end
+    # meanwhile, but the audit's worker must not outlive the interrupt.
+    assert _tasks() <= threads, "the worker thread was not joined"
     # The package works again afterwards.
     assert gapcert.audit("fixtures/demo/runs.csv").summary["runs"] == 21
 

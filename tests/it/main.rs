@@ -10,6 +10,7 @@ mod cli_commands;
 mod common;
 mod comparison_coverage;
 mod folders;
+mod frames;
 mod fuzz_regressions;
 mod guards;
 mod hostile;
