@@ -71,6 +71,18 @@ if [ "$ROWS" -gt 0 ]; then
     wall=$(grep 'Elapsed (wall clock)' "$DATA/time-claims.txt" | awk '{print $NF}')
     printf 'ndjson %s: peak RSS %.0f MB, wall %s\n' "${claims:-without claims}" "$(div "$rss_kb" 1024)" "$wall"
   done
+  # Claims scale (SPEC §8): 10,000 claims, 1,000 of them patterns matching about
+  # 100,000 runs, in at most 2x the audit without claims (medians, alternating).
+  python3 benches/make_claims.py "$DATA/runs-$ROWS.csv" "$DATA/claims10k.csv"
+  plain_times=(); claims_times=()
+  for i in $(seq "$REPEATS"); do
+    plain_times+=("$(seconds "$BIN/gapcert" audit "$DATA/runs-$ROWS.csv" --format ndjson --output "$DATA/out.ndjson" --quiet)")
+    claims_times+=("$(seconds "$BIN/gapcert" audit "$DATA/runs-$ROWS.csv" --claims "$DATA/claims10k.csv" --format ndjson --output "$DATA/out.ndjson" --quiet)")
+  done
+  plain_median=$(printf '%s\n' "${plain_times[@]}" | median)
+  claims_median=$(printf '%s\n' "${claims_times[@]}" | median)
+  printf 'without claims %.3f s, with 10,000 claims %.3f s (medians of %s): ratio %.2f (target <= 2)\n' \
+    "$plain_median" "$claims_median" "$REPEATS" "$(div "$claims_median" "$plain_median")"
   rm -f "$DATA/out.ndjson"
 fi
 
