@@ -10,8 +10,11 @@
 #   3. a 20-run log audited, process start to exit (median of 50; target < 20 ms);
 #   4. peak resident memory auditing 10,000,000 runs from Parquet (target <= 4 GB);
 #   5. the pandas + scipy reference script vs gapcert on the same file (target >= 10x).
+#   0. first, the previous build (benches/PREVIOUS: the last landed commit) against
+#      this one on the million-run audit, alternating (medians, CPU).
 # Usage: [ROWS=1000000] [FOLDER_RUNS=20000] [FOLDER_BIG_RUNS=200000] [BIG_ROWS=10000000]
-#        [PY_ROWS=10000] [REPEATS=5] benches/run.sh
+#        [PY_ROWS=10000] [REPEATS=5] [PREVIOUS_BIN=old-gapcert | PREVIOUS=none]
+#        benches/run.sh
 # ROWS=0, FOLDER_RUNS=0, FOLDER_BIG_RUNS=0, BIG_ROWS=0 or PY_ROWS=0 skips that part.
 # PY_ROWS is smaller because the Python script needs about 30 ms per run (its exact
 # holdout_needed search calls scipy once per candidate n).
@@ -23,6 +26,11 @@ FOLDER_BIG_RUNS=${FOLDER_BIG_RUNS:-200000}
 BIG_ROWS=${BIG_ROWS:-10000000}
 REPEATS=${REPEATS:-5}
 PY_ROWS=${PY_ROWS:-10000}
+# The previous build to compare with: PREVIOUS_BIN (a binary), or built from the
+# commit in benches/PREVIOUS into PREVIOUS_TARGET; PREVIOUS=none skips it.
+PREVIOUS=${PREVIOUS:-}
+PREVIOUS_BIN=${PREVIOUS_BIN:-}
+PREVIOUS_TARGET=${PREVIOUS_TARGET:-$HOME/.cache/gapcert-previous-target}
 export CARGO_TARGET_DIR="${CARGO_TARGET_DIR:-/root/.cache/gapcert-target}"
 BIN="$CARGO_TARGET_DIR/release"
 DATA=bench-data
@@ -38,6 +46,25 @@ div() { awk -v a="$1" -v b="$2" 'BEGIN {print a / b}'; }
 
 if [ "$ROWS" -gt 0 ]; then
   [ -f "$DATA/runs-$ROWS.csv" ] || "$EX/generate_logs" --rows "$ROWS" --seed 7 --output "$DATA/runs-$ROWS.csv"
+  if [ "$PREVIOUS" != none ]; then
+    # The previous build, side by side with this one on the million-run audit: a
+    # change that costs more than 5 % says so in the README (SPEC §8).
+    if [ -z "$PREVIOUS_BIN" ]; then
+      commit=$(cat benches/PREVIOUS)
+      src="$DATA/previous-src"
+      [ -d "$src" ] && git worktree remove --force "$src" 2>/dev/null
+      rm -rf "$src"
+      git worktree add --detach "$src" "$commit" >/dev/null
+      # Its own target folder: the two builds never pick up each other's gapcert
+      # (the first build compiles polars there too, about 20 minutes).
+      ( cd "$src" && CARGO_TARGET_DIR="$PREVIOUS_TARGET" cargo build --release --quiet )
+      PREVIOUS_BIN="$DATA/gapcert-previous"
+      cp "$PREVIOUS_TARGET/release/gapcert" "$PREVIOUS_BIN"
+      git worktree remove --force "$src"
+    fi
+    echo "== 0. the previous build ($(cat benches/PREVIOUS | cut -c1-10)) and this one, alternating"
+    benches/ab.sh "$REPEATS" "$PREVIOUS_BIN" "$BIN/gapcert"
+  fi
   echo "== 1. $ROWS runs from CSV ($(du -h "$DATA/runs-$ROWS.csv" | cut -f1))"
   # The audit writes a new output file, as in a fresh CI checkout: the previous one is
   # removed before each timed run (untimed). Replacing an existing 0.9 GB output costs
