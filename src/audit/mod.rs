@@ -19,7 +19,9 @@ use rayon::prelude::*;
 
 pub use finding::{Finding, FindingCode};
 pub use per_run::{audit_run, holdout_needed_for, RunContext};
-pub use result::{gate_fails_on_claim, gate_fails_on_run, GateResult, RunResult, Summary, Verdict};
+pub use result::{
+    gate_fails_on_claim, gate_fails_on_run, gate_reason, GateResult, RunResult, Summary, Verdict,
+};
 
 pub use settings::{AuditSettings, Gate, HoldoutBound};
 
@@ -135,6 +137,12 @@ impl AuditScope {
         Ok(())
     }
 
+    /// Per held-out split whose name another split spells differently only in case:
+    /// every spelling of that name, sorted (finding `split_names_differ_in_case`).
+    pub fn case_twins(&self) -> HashMap<String, Vec<String>> {
+        split_spellings(self.sharing.keys().map(String::as_str))
+    }
+
     /// δ after the family-wise (Bonferroni) division, when asked for.
     pub fn delta(&self, settings: &AuditSettings) -> f64 {
         let delta = settings.delta();
@@ -160,6 +168,28 @@ impl AuditScope {
     }
 }
 
+/// Groups split names that differ only in case: for each name with another spelling,
+/// every spelling of it, sorted. Names with one spelling are left out.
+pub fn split_spellings<'a>(names: impl Iterator<Item = &'a str>) -> HashMap<String, Vec<String>> {
+    let mut groups: HashMap<String, Vec<String>> = HashMap::default();
+    for name in names {
+        let spellings = groups.entry(name.to_lowercase()).or_default();
+        if !spellings.iter().any(|known| known == name) {
+            spellings.push(name.to_string());
+        }
+    }
+    let mut twins = HashMap::default();
+    for (_, mut spellings) in groups {
+        if spellings.len() > 1 {
+            spellings.sort_unstable();
+            for name in &spellings {
+                twins.insert(name.clone(), spellings.clone());
+            }
+        }
+    }
+    twins
+}
+
 /// Audits every run (in parallel; the result order is the input order): the
 /// mathematics of one audit without reading or reporting (the engine,
 /// [`crate::engine`], adds those).
@@ -179,6 +209,8 @@ pub struct Auditor<'a> {
     train_needed: Mutex<HashMap<Family, Option<u64>>>,
     holdout_needed: Mutex<HashMap<ClaimKey, Option<u64>>>,
     messages: bool,
+    /// Splits spelled in more than one case, with every spelling.
+    case_twins: HashMap<String, Vec<String>>,
 }
 
 /// (observed rate, claimed error rate, δ/K) as bits: the inputs of `holdout_needed`.
@@ -193,6 +225,7 @@ impl<'a> Auditor<'a> {
             train_needed: Mutex::new(HashMap::default()),
             holdout_needed: Mutex::new(HashMap::default()),
             messages: true,
+            case_twins: scope.case_twins(),
         }
     }
 
@@ -265,6 +298,25 @@ impl<'a> Auditor<'a> {
                     split_size_mismatch: self.scope.split_size_mismatch(&input),
                 };
                 let mut result = audit_run(input, context, settings);
+                if let Some(spellings) = result
+                    .holdout_set
+                    .as_ref()
+                    .and_then(|split| self.case_twins.get(split))
+                {
+                    result.split_spellings = spellings.clone();
+                    let mut finding = Finding {
+                        code: FindingCode::SplitNamesDifferInCase,
+                        message: String::new(),
+                    };
+                    if self.messages {
+                        finding.message = explain::finding_message(
+                            &result,
+                            FindingCode::SplitNamesDifferInCase,
+                            settings,
+                        );
+                    }
+                    result.findings.push(finding);
+                }
                 result.holdout_needed = holdout_needed(&result);
                 result.explanation = explain::explanation(&result);
                 result

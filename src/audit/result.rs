@@ -2,6 +2,7 @@
 
 use serde::{Deserialize, Serialize};
 
+use super::claims::ClaimResult;
 pub use super::finding::{Finding, FindingCode};
 use super::settings::Gate;
 
@@ -87,6 +88,11 @@ pub struct RunResult {
     /// wear history of a split counts K as it grew). Not written out.
     #[serde(skip)]
     pub candidates_logged: u64,
+    /// Every spelling of the run's split when other runs spell it in another case
+    /// (finding `split_names_differ_in_case`); empty otherwise. Not written out: the
+    /// split entry names them.
+    #[serde(skip)]
+    pub split_spellings: Vec<String>,
 }
 
 /// The order reports list runs in, worst first: refuted, unproven, certified, no
@@ -136,6 +142,14 @@ pub struct Summary {
     pub claims_certified: usize,
     pub claims_unproven: usize,
     pub claims_refuted: usize,
+    /// Claims of the claims files with a finding that fails the gate (see
+    /// [`crate::audit::claims::ClaimResult::findings`]) not allowed by `--gate-allow`.
+    #[serde(default)]
+    pub claim_gate_findings: usize,
+    /// Rows skipped under `--lenient` that carried a claim (a claim cell, or
+    /// `--claim-accuracy`): a claim the audit could not read fails the gate.
+    #[serde(default)]
+    pub claims_skipped: usize,
     pub gate: GateResult,
 }
 
@@ -162,10 +176,14 @@ impl Summary {
         }
     }
 
-    /// Counts one claim of a claims file.
-    pub fn count_claim(&mut self, verdict: Verdict) {
+    /// Counts one claim of a claims file; `gate_allow` are the codes `--gate-allow`
+    /// names.
+    pub fn count_claim(&mut self, claim: &ClaimResult, gate_allow: &[FindingCode]) {
         self.claims += 1;
-        match verdict {
+        if claim_slip(claim, gate_allow) {
+            self.claim_gate_findings += 1;
+        }
+        match claim.verdict {
             Verdict::Certified => self.claims_certified += 1,
             Verdict::Unproven | Verdict::NoClaim => self.claims_unproven += 1,
             Verdict::Refuted => self.claims_refuted += 1,
@@ -180,9 +198,10 @@ impl Summary {
             self.unproven + self.claims_unproven,
             self.refuted + self.claims_refuted,
         );
+        let slips = self.gate_findings + self.claim_gate_findings + self.claims_skipped;
         let fails = match gate {
-            Gate::Unproven => unproven + refuted + self.gate_findings > 0,
-            Gate::Refuted => refuted + self.gate_findings > 0,
+            Gate::Unproven => unproven + refuted + slips > 0,
+            Gate::Refuted => refuted + slips > 0,
             Gate::Never => false,
         };
         self.gate = if fails {
@@ -211,12 +230,45 @@ pub fn gate_fails_on_run(run: &RunResult, gate: Gate, gate_allow: &[FindingCode]
     }
 }
 
-/// Whether `gate` fails on a claim of a claims file with this verdict.
-pub fn gate_fails_on_claim(verdict: Verdict, gate: Gate) -> bool {
+/// Whether `gate` fails on a claim of a claims file: not certified (`unproven`) or
+/// refuted (`refuted`), or with a finding that suggests a slip not allowed by
+/// `gate_allow`.
+pub fn gate_fails_on_claim(claim: &ClaimResult, gate: Gate, gate_allow: &[FindingCode]) -> bool {
+    let slip = claim_slip(claim, gate_allow);
     match gate {
+        Gate::Unproven => claim.verdict != Verdict::Certified || slip,
+        Gate::Refuted => claim.verdict == Verdict::Refuted || slip,
+        Gate::Never => false,
+    }
+}
+
+/// Whether a claim has a finding that fails the gate, not allowed by `gate_allow`.
+fn claim_slip(claim: &ClaimResult, gate_allow: &[FindingCode]) -> bool {
+    claim
+        .findings
+        .iter()
+        .any(|f| f.code.blocks_gate() && !gate_allow.contains(&f.code))
+}
+
+/// What fails the gate on a run or claim, named first in reports: the first
+/// finding that fails it when the verdict alone would pass, else the verdict.
+pub fn gate_reason<'a>(
+    verdict: Verdict,
+    findings: &'a [Finding],
+    gate: Gate,
+    gate_allow: &[FindingCode],
+) -> Result<&'a Finding, Verdict> {
+    let verdict_fails = match gate {
         Gate::Unproven => verdict != Verdict::Certified,
         Gate::Refuted => verdict == Verdict::Refuted,
         Gate::Never => false,
+    };
+    match findings
+        .iter()
+        .find(|f| f.code.blocks_gate() && !gate_allow.contains(&f.code))
+    {
+        Some(finding) if !verdict_fails => Ok(finding),
+        _ => Err(verdict),
     }
 }
 
