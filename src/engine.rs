@@ -840,7 +840,7 @@ impl Meta {
             splits,
         } = finished;
         for claim in &self.claims {
-            summary.count_claim(claim, &audit_settings.gate_allow);
+            summary.count_claim(claim.verdict, &claim.findings, &audit_settings.gate_allow);
         }
         summary.rows_skipped = self.skipped_rows.len() + self.rows_in_skipped_files;
         summary.claims_skipped = self

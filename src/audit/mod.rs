@@ -139,8 +139,8 @@ impl AuditScope {
 
     /// Per held-out split whose name another split spells differently only in case:
     /// every spelling of that name, sorted (finding `split_names_differ_in_case`).
-    pub fn case_twins(&self) -> HashMap<String, Vec<String>> {
-        split_spellings(self.sharing.keys().map(String::as_str))
+    pub fn case_twins(&self) -> std::collections::HashMap<String, Vec<String>> {
+        splits::split_spellings(self.sharing.keys().map(String::as_str))
     }
 
     /// δ after the family-wise (Bonferroni) division, when asked for.
@@ -168,28 +168,6 @@ impl AuditScope {
     }
 }
 
-/// Groups split names that differ only in case: for each name with another spelling,
-/// every spelling of it, sorted. Names with one spelling are left out.
-pub fn split_spellings<'a>(names: impl Iterator<Item = &'a str>) -> HashMap<String, Vec<String>> {
-    let mut groups: HashMap<String, Vec<String>> = HashMap::default();
-    for name in names {
-        let spellings = groups.entry(name.to_lowercase()).or_default();
-        if !spellings.iter().any(|known| known == name) {
-            spellings.push(name.to_string());
-        }
-    }
-    let mut twins = HashMap::default();
-    for (_, mut spellings) in groups {
-        if spellings.len() > 1 {
-            spellings.sort_unstable();
-            for name in &spellings {
-                twins.insert(name.clone(), spellings.clone());
-            }
-        }
-    }
-    twins
-}
-
 /// Audits every run (in parallel; the result order is the input order): the
 /// mathematics of one audit without reading or reporting (the engine,
 /// [`crate::engine`], adds those).
@@ -210,7 +188,7 @@ pub struct Auditor<'a> {
     holdout_needed: Mutex<HashMap<ClaimKey, Option<u64>>>,
     messages: bool,
     /// Splits spelled in more than one case, with every spelling.
-    case_twins: HashMap<String, Vec<String>>,
+    case_twins: std::collections::HashMap<String, Vec<String>>,
 }
 
 /// (observed rate, claimed error rate, δ/K) as bits: the inputs of `holdout_needed`.

@@ -2,7 +2,6 @@
 
 use serde::{Deserialize, Serialize};
 
-use super::claims::ClaimResult;
 pub use super::finding::{Finding, FindingCode};
 use super::settings::Gate;
 
@@ -178,12 +177,17 @@ impl Summary {
 
     /// Counts one claim of a claims file; `gate_allow` are the codes `--gate-allow`
     /// names.
-    pub fn count_claim(&mut self, claim: &ClaimResult, gate_allow: &[FindingCode]) {
+    pub fn count_claim(
+        &mut self,
+        verdict: Verdict,
+        findings: &[Finding],
+        gate_allow: &[FindingCode],
+    ) {
         self.claims += 1;
-        if claim_slip(claim, gate_allow) {
+        if slip(findings, gate_allow) {
             self.claim_gate_findings += 1;
         }
-        match claim.verdict {
+        match verdict {
             Verdict::Certified => self.claims_certified += 1,
             Verdict::Unproven | Verdict::NoClaim => self.claims_unproven += 1,
             Verdict::Refuted => self.claims_refuted += 1,
@@ -230,22 +234,26 @@ pub fn gate_fails_on_run(run: &RunResult, gate: Gate, gate_allow: &[FindingCode]
     }
 }
 
-/// Whether `gate` fails on a claim of a claims file: not certified (`unproven`) or
-/// refuted (`refuted`), or with a finding that suggests a slip not allowed by
-/// `gate_allow`.
-pub fn gate_fails_on_claim(claim: &ClaimResult, gate: Gate, gate_allow: &[FindingCode]) -> bool {
-    let slip = claim_slip(claim, gate_allow);
+/// Whether `gate` fails on a claim of a claims file with this verdict and these
+/// findings: not certified (`unproven`) or refuted (`refuted`), or with a finding
+/// that suggests a slip not allowed by `gate_allow`.
+pub fn gate_fails_on_claim(
+    verdict: Verdict,
+    findings: &[Finding],
+    gate: Gate,
+    gate_allow: &[FindingCode],
+) -> bool {
+    let slip = slip(findings, gate_allow);
     match gate {
-        Gate::Unproven => claim.verdict != Verdict::Certified || slip,
-        Gate::Refuted => claim.verdict == Verdict::Refuted || slip,
+        Gate::Unproven => verdict != Verdict::Certified || slip,
+        Gate::Refuted => verdict == Verdict::Refuted || slip,
         Gate::Never => false,
     }
 }
 
-/// Whether a claim has a finding that fails the gate, not allowed by `gate_allow`.
-fn claim_slip(claim: &ClaimResult, gate_allow: &[FindingCode]) -> bool {
-    claim
-        .findings
+/// Whether a finding fails the gate, not allowed by `gate_allow`.
+fn slip(findings: &[Finding], gate_allow: &[FindingCode]) -> bool {
+    findings
         .iter()
         .any(|f| f.code.blocks_gate() && !gate_allow.contains(&f.code))
 }

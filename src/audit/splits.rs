@@ -230,7 +230,7 @@ impl SplitAccumulator {
         delta: f64,
         claims: &[ClaimResult],
     ) -> Vec<SplitEntry> {
-        let twins = super::split_spellings(self.splits.iter().map(|state| state.split.as_str()));
+        let twins = split_spellings(self.splits.iter().map(|state| state.split.as_str()));
         self.splits
             .into_iter()
             .map(|mut state| {
@@ -250,6 +250,31 @@ impl SplitAccumulator {
             })
             .collect()
     }
+}
+
+/// Groups split names that differ only in case: for each name with another spelling,
+/// every spelling of it, sorted. Names with one spelling are left out.
+pub fn split_spellings<'a>(
+    names: impl Iterator<Item = &'a str>,
+) -> std::collections::HashMap<String, Vec<String>> {
+    let mut groups: std::collections::HashMap<String, Vec<String>> =
+        std::collections::HashMap::new();
+    for name in names {
+        let spellings = groups.entry(name.to_lowercase()).or_default();
+        if !spellings.iter().any(|known| known == name) {
+            spellings.push(name.to_string());
+        }
+    }
+    let mut twins = std::collections::HashMap::new();
+    for (_, mut spellings) in groups {
+        if spellings.len() > 1 {
+            spellings.sort_unstable();
+            for name in &spellings {
+                twins.insert(name.clone(), spellings.clone());
+            }
+        }
+    }
+    twins
 }
 
 /// The strictest claim of a claims file on `run` alone (kind `accuracy` or `error`,

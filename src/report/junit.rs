@@ -37,7 +37,14 @@ pub fn write_junit(doc: &AuditDocument, out: &mut dyn Write) -> io::Result<()> {
     let claim_fails: Vec<bool> = doc
         .claims
         .iter()
-        .map(|claim| gate_fails_on_claim(claim, settings.gate, &settings.gate_allow))
+        .map(|claim| {
+            gate_fails_on_claim(
+                claim.verdict,
+                &claim.findings,
+                settings.gate,
+                &settings.gate_allow,
+            )
+        })
         .collect();
     let count = |fails: &[bool]| fails.iter().filter(|&&f| f).count();
     let failures = count(&run_fails) + count(&claim_fails);
