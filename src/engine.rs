@@ -495,16 +495,104 @@ impl PreparedAudit<'_> {
             match evaluate_claims(&self.claims.claims, &runs, audit_settings, delta) {
                 Ok(results) => results,
                 Err(more) => {
-                    problems.extend(more);
+                    let more = self.suggest_runs(more, &runs)?;
+                    problems.extend(more.into_iter().map(crate::error::Problem::of_claims_file));
                     Vec::new()
                 }
             }
         };
         if !problems.is_empty() {
+            // In row order, file by file, whichever step found them.
+            let inputs = &self.claims.inputs;
+            let file_order = |file: &str| inputs.iter().position(|input| input.path == file);
+            problems.sort_by_key(|problem| (file_order(&problem.file), problem.row));
             return Err(Error::Input(problems));
         }
         self.claim_results = Some(results);
         Ok(())
+    }
+
+    /// Adds "did you mean" to the problems of claims whose run or baseline matches no
+    /// run: the closest identifier in the logs (at most two edits, or the same name in
+    /// another case). Only on this failure path are all identifiers read again.
+    fn suggest_runs(
+        &self,
+        mut problems: Vec<crate::error::Problem>,
+        named: &[RunResult],
+    ) -> Result<Vec<crate::error::Problem>, Error> {
+        let unmatched_message =
+            |column: &str, name: &str| format!("{column} `{name}` matches no run in the logs");
+        let mut missing: Vec<String> = Vec::new();
+        for claim in &self.claims.claims {
+            let names = std::iter::once(("run", &claim.run))
+                .filter(|_| !claim.is_pattern())
+                .chain(claim.baseline.iter().map(|b| ("baseline", b)));
+            for (column, name) in names {
+                let message = unmatched_message(column, name);
+                if problems.iter().any(|p| p.message == message)
+                    && !named.iter().any(|run| &run.run == name)
+                    && !missing.contains(name)
+                {
+                    missing.push(name.clone());
+                }
+            }
+        }
+        if missing.is_empty() {
+            return Ok(problems);
+        }
+        // (distance, suggestion) per missing name.
+        let mut closest: Vec<Option<(usize, String)>> = vec![None; missing.len()];
+        let mut look = |batch: &[RunInput]| {
+            for run in batch {
+                for (name, best) in missing.iter().zip(closest.iter_mut()) {
+                    let length_gap = run.run.chars().count().abs_diff(name.chars().count());
+                    if length_gap > 2 {
+                        continue;
+                    }
+                    let distance = if run.run.to_lowercase() == name.to_lowercase() {
+                        0
+                    } else {
+                        crate::suggest::edit_distance(name, &run.run)
+                    };
+                    if distance <= 2
+                        && distance < name.chars().count()
+                        && best.as_ref().map_or(true, |(known, _)| distance < *known)
+                    {
+                        *best = Some((distance, run.run.clone()));
+                    }
+                }
+            }
+        };
+        match &self.held {
+            Some(batches) => batches.iter().for_each(|batch| look(batch)),
+            None => reread(
+                &self.logs,
+                &self.usable,
+                &self.settings,
+                self.limits,
+                &self.file_copies,
+                &self.stream_copies,
+                &mut |_, batch| {
+                    look(&batch);
+                    true
+                },
+            ),
+        }
+        if self.settings.cancel.is_cancelled() {
+            return Err(Error::Interrupted);
+        }
+        for (name, best) in missing.iter().zip(closest) {
+            let Some((_, suggestion)) = best else {
+                continue;
+            };
+            for column in ["run", "baseline"] {
+                let message = unmatched_message(column, name);
+                for problem in problems.iter_mut().filter(|p| p.message == message) {
+                    problem.message = format!("{message} (did you mean `{suggestion}`?)");
+                }
+            }
+        }
+        Ok(problems)
     }
 
     /// The runs the claims name, in input order (from the held runs, or read again).
@@ -546,10 +634,16 @@ impl PreparedAudit<'_> {
         self.check(audit_settings)?;
         let mut runs: Vec<RunResult> = Vec::with_capacity(self.runs);
         let meta = self.take_meta();
-        let finished = self.second_pass(audit_settings, true, &|batch| batch, &mut |batch| {
-            runs.extend(batch);
-            Ok(())
-        })?;
+        let finished = self.second_pass(
+            audit_settings,
+            &meta.claims,
+            true,
+            &|batch| batch,
+            &mut |batch| {
+                runs.extend(batch);
+                Ok(())
+            },
+        )?;
         Ok(meta.document(audit_settings, runs, finished))
     }
 
@@ -581,14 +675,15 @@ impl PreparedAudit<'_> {
             }
             results
         };
-        let finished = self.second_pass(audit_settings, false, &narrow, &mut |batch| {
-            kept.extend(batch);
-            if kept.len() > keep.saturating_mul(2).max(1024) {
-                kept.select_nth_unstable_by(keep, order);
-                kept.truncate(keep);
-            }
-            Ok(())
-        })?;
+        let finished =
+            self.second_pass(audit_settings, &meta.claims, false, &narrow, &mut |batch| {
+                kept.extend(batch);
+                if kept.len() > keep.saturating_mul(2).max(1024) {
+                    kept.select_nth_unstable_by(keep, order);
+                    kept.truncate(keep);
+                }
+                Ok(())
+            })?;
         if kept.len() > keep {
             kept.select_nth_unstable_by(keep, order);
             kept.truncate(keep);
@@ -616,7 +711,7 @@ impl PreparedAudit<'_> {
     ) -> Result<AuditDocument, Error> {
         self.check(audit_settings)?;
         let meta = self.take_meta();
-        let finished = self.second_pass(audit_settings, messages, transform, sink)?;
+        let finished = self.second_pass(audit_settings, &meta.claims, messages, transform, sink)?;
         Ok(meta.document(audit_settings, Vec::new(), finished))
     }
 
@@ -639,10 +734,12 @@ impl PreparedAudit<'_> {
     /// stages overlap: one thread reads and validates the next batch, another audits
     /// the current one, a third counts it (summary, splits) and turns it into `T`, and
     /// this thread hands the previous one to `sink` (the writer stays on the caller's
-    /// thread, so `sink` need not be `Send`).
+    /// thread, so `sink` need not be `Send`). `claims` are the claims decided by
+    /// [`PreparedAudit::check`] (split entries use those on a best run).
     fn second_pass<T: Send>(
         self,
         audit_settings: &AuditSettings,
+        claims: &[ClaimResult],
         messages: bool,
         transform: &(dyn Fn(Vec<RunResult>) -> T + Sync),
         sink: &mut dyn FnMut(T) -> io::Result<()>,
@@ -724,7 +821,7 @@ impl PreparedAudit<'_> {
         let (summary, splits) = counted;
         Ok(Finished {
             summary,
-            splits: splits.finish(audit_settings, delta),
+            splits: splits.finish_with_claims(audit_settings, delta, claims),
         })
     }
 }
@@ -756,9 +853,14 @@ impl Meta {
             splits,
         } = finished;
         for claim in &self.claims {
-            summary.count_claim(claim.verdict);
+            summary.count_claim(claim.verdict, &claim.findings, &audit_settings.gate_allow);
         }
         summary.rows_skipped = self.skipped_rows.len() + self.rows_in_skipped_files;
+        summary.claims_skipped = self
+            .skipped_rows
+            .iter()
+            .filter(|row| row.carries_claim)
+            .count();
         summary.copies_set_aside = self.copies_set_aside;
         summary.rows_read = summary.runs + summary.rows_skipped + self.copies_set_aside;
         summary.files_skipped = self.skipped_files.len();

@@ -17,15 +17,26 @@ pub struct Problem {
     pub row: Option<usize>,
     pub column: Option<String>,
     pub message: String,
+    /// The problem is in a claims file (`--lenient` skips bad log rows, never claims).
+    pub in_claims_file: bool,
 }
 
 impl Problem {
+    /// The same problem, marked as one of a claims file.
+    pub fn of_claims_file(self) -> Problem {
+        Problem {
+            in_claims_file: true,
+            ..self
+        }
+    }
+
     pub fn file(file: &str, message: impl Into<String>) -> Problem {
         Problem {
             file: file.to_string(),
             row: None,
             column: None,
             message: message.into(),
+            in_claims_file: false,
         }
     }
 
@@ -35,6 +46,7 @@ impl Problem {
             row: Some(row),
             column: Some(column.to_string()),
             message: message.into(),
+            in_claims_file: false,
         }
     }
 
@@ -44,6 +56,7 @@ impl Problem {
             row: Some(row),
             column: None,
             message: message.into(),
+            in_claims_file: false,
         }
     }
 }
@@ -117,11 +130,26 @@ impl fmt::Display for Error {
                 for problem in problems {
                     writeln!(f, "{problem}")?;
                 }
-                write!(
-                    f,
-                    "{} problem(s) found; fix them or pass --lenient to skip bad rows",
-                    problems.len()
-                )
+                let in_claims = problems.iter().filter(|p| p.in_claims_file).count();
+                if in_claims == 0 {
+                    write!(
+                        f,
+                        "{} problem(s) found; fix them or pass --lenient to skip bad rows",
+                        problems.len()
+                    )
+                } else if in_claims == problems.len() {
+                    write!(
+                        f,
+                        "{} problem(s) found in the claims files; correct the rows listed or delete them from the claims file (--lenient skips bad log rows, never a claim)",
+                        problems.len()
+                    )
+                } else {
+                    write!(
+                        f,
+                        "{} problem(s) found; fix them (--lenient skips the bad log rows, never a claim: correct or delete the {in_claims} claims-file problem(s) listed)",
+                        problems.len()
+                    )
+                }
             }
         }
     }

@@ -24,12 +24,14 @@ use std::fmt::Write as _;
 
 use serde::{Deserialize, Serialize};
 
+use super::finding::{Finding, FindingCode};
 use super::per_run::one_sided_bounds;
 use super::result::{RunResult, Verdict};
 use super::settings::{AuditSettings, HoldoutBound};
 use crate::claim::{ClaimInput, ClaimKind, PatternIndex};
 use crate::decimal::{group_thousands, push_percent};
 use crate::error::Problem;
+use crate::run::ClaimForm;
 use crate::theory::{binomial, comparison, sample_size, vc};
 
 /// How a claim was decided.
@@ -89,6 +91,12 @@ pub struct ClaimResult {
     pub verdict: Verdict,
     pub holdout_needed: Option<u64>,
     pub evidence: String,
+    /// Findings that suggest a slip (see [`FindingCode::blocks_gate`]): the
+    /// plausibility findings of an `accuracy` / `error` claim (SPEC §4's, as for a
+    /// claim in a log column), and those of the runs it names. The gate fails on them
+    /// unless `--gate-allow` names the code.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub findings: Vec<Finding>,
 }
 
 /// Joins every claim to the runs and decides it; fails with every problem found
@@ -296,7 +304,9 @@ fn evaluate(
             group_thousands(needed)
         );
     }
+    let findings = claim_findings(claim, &decided, baseline);
     Ok(ClaimResult {
+        findings,
         claim: claim.claim.clone(),
         source: claim.source.clone(),
         statement: claim.statement.clone(),
@@ -315,6 +325,93 @@ fn evaluate(
         holdout_needed,
         evidence,
     })
+}
+
+/// The findings of a claim that suggest a slip: for an `accuracy` / `error` claim,
+/// the plausibility finding a log claim of that value would get against each run
+/// it names (the first run that gets one is named); for every claim, the findings
+/// of the runs it names (and its baseline) that block the gate and do not concern a
+/// log column's claim (`holdout_n_equals_train_n`, `split_names_differ_in_case`).
+fn claim_findings(
+    claim: &ClaimInput,
+    decided: &[(&RunResult, Decision)],
+    baseline: Option<&RunResult>,
+) -> Vec<Finding> {
+    let mut findings: Vec<Finding> = Vec::new();
+    let mut add = |code: FindingCode, message: String| {
+        if !findings.iter().any(|f| f.code == code) {
+            findings.push(Finding { code, message });
+        }
+    };
+    let gate_note = |code: FindingCode| {
+        format!(
+            "; the gate fails on it unless --gate-allow {}",
+            code.as_str()
+        )
+    };
+    let form = match claim.kind {
+        ClaimKind::Accuracy => Some(ClaimForm::Accuracy),
+        ClaimKind::Error => Some(ClaimForm::ErrorRate),
+        _ => None,
+    };
+    if let Some(form) = form {
+        for (run, decision) in decided {
+            let error = decision.threshold;
+            let rate = run.holdout_error_rate;
+            let Some(code) = super::per_run::implausible_claim(Some(error), Some(form), rate)
+            else {
+                continue;
+            };
+            let mut text = String::new();
+            match code {
+                FindingCode::ClaimLooksLikeErrorRate => {
+                    text.push_str("the claimed accuracy ");
+                    pct(&mut text, 1.0 - error);
+                    let _ = write!(
+                        text,
+                        " is close to the observed error rate of {} (",
+                        run.run
+                    );
+                    pct(&mut text, rate);
+                    text.push_str("), not to its observed accuracy (");
+                    pct(&mut text, 1.0 - rate);
+                    text.push_str("): it looks like an error rate written as an accuracy (write the claim's kind as `error`)");
+                }
+                FindingCode::ClaimLooksLikeAccuracy => {
+                    text.push_str("the claimed error rate ");
+                    pct(&mut text, error);
+                    let _ = write!(text, " is close to the observed accuracy of {} (", run.run);
+                    pct(&mut text, 1.0 - rate);
+                    text.push_str("): it looks like an accuracy written as an error rate (write the claim's kind as `accuracy`)");
+                }
+                _ => {
+                    text.push_str("the claimed accuracy ");
+                    pct(&mut text, 1.0 - error);
+                    text.push_str(" is below 50 %, which is usually a slip: an error rate written as an accuracy, an accuracy written as an error, or fractions read with --percent");
+                }
+            }
+            text.push_str(&gate_note(code));
+            add(code, text);
+        }
+    }
+    let named = decided.iter().map(|(run, _)| *run).chain(baseline);
+    for run in named {
+        for finding in &run.findings {
+            if !matches!(
+                finding.code,
+                FindingCode::HoldoutNEqualsTrainN | FindingCode::SplitNamesDifferInCase
+            ) {
+                continue;
+            }
+            let message = if finding.message.is_empty() {
+                finding.code.as_str().to_string()
+            } else {
+                finding.message.clone()
+            };
+            add(finding.code, format!("run `{}`: {message}", run.run));
+        }
+    }
+    findings
 }
 
 /// One run's part of a claim.
@@ -633,8 +730,31 @@ fn unpaired(
     );
     let (lower, upper) = comparison::unpaired_bounds(run_lower, run_upper, base_lower, base_upper);
     let verdict = verdict_of(lower, upper, threshold);
+    let split_words = |r: &RunResult| match &r.holdout_set {
+        Some(split) => format!("split `{split}`, {} examples", group_thousands(r.holdout_n)),
+        None => format!(
+            "an unnamed split, {} examples",
+            group_thousands(r.holdout_n)
+        ),
+    };
+    let same_data = run.holdout_set.is_some()
+        && run.holdout_set == base.holdout_set
+        && run.holdout_n == base.holdout_n;
+    let known_apart = run.holdout_n != base.holdout_n
+        || (run.holdout_set.is_some()
+            && base.holdout_set.is_some()
+            && run.holdout_set != base.holdout_set);
+    let why_unpaired = if same_data || !known_apart {
+        "no discordant counts on one split".to_string()
+    } else {
+        format!(
+            "the runs were scored on different held-out data: {} and {}",
+            split_words(run),
+            split_words(base)
+        )
+    };
     let mut evidence = format!(
-        "{} vs {}, unpaired (no discordant counts on one split): Δ = E_run − E_base lies in ",
+        "{} vs {}, unpaired ({why_unpaired}): Δ = E_run − E_base lies in ",
         run.run, base.run
     );
     range(&mut evidence, lower, upper);

@@ -207,6 +207,15 @@ pub fn finding_message(run: &RunResult, code: FindingCode, settings: &AuditSetti
                 run.holdout_n
             );
         }
+        FindingCode::SplitNamesDifferInCase => {
+            let split = run.holdout_set.as_deref().unwrap_or("");
+            let _ = write!(
+                text,
+                "the held-out split `{split}` is also spelled {} by other runs: names that differ only in case are counted as separate splits, so K counts fewer models than may have been compared on one split; spell the split one way",
+                context_spellings(run)
+            );
+            gate_note(&mut text);
+        }
         FindingCode::HoldoutNEqualsTrainN => {
             let _ = write!(
                 text,
@@ -217,6 +226,23 @@ pub fn finding_message(run: &RunResult, code: FindingCode, settings: &AuditSetti
         }
     }
     text
+}
+
+/// The other spellings of `run`'s split, as "`a`, `b`" (from the finding's context,
+/// which the audit stores in `split_spellings`).
+fn context_spellings(run: &RunResult) -> String {
+    let split = run.holdout_set.as_deref().unwrap_or("");
+    let others: Vec<String> = run
+        .split_spellings
+        .iter()
+        .filter(|spelling| spelling.as_str() != split)
+        .map(|spelling| format!("`{spelling}`"))
+        .collect();
+    if others.is_empty() {
+        "differently".to_string()
+    } else {
+        others.join(", ")
+    }
 }
 
 /// The sentence of one of `run`'s findings: its message, or written now when a

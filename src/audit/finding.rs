@@ -20,6 +20,7 @@ pub enum FindingCode {
     HoldoutNEqualsTrainN,
     SplitSizeMismatch,
     RunIdRepeated,
+    SplitNamesDifferInCase,
 }
 
 impl FindingCode {
@@ -38,11 +39,12 @@ impl FindingCode {
             FindingCode::HoldoutNEqualsTrainN => "holdout_n_equals_train_n",
             FindingCode::SplitSizeMismatch => "split_size_mismatch",
             FindingCode::RunIdRepeated => "run_id_repeated",
+            FindingCode::SplitNamesDifferInCase => "split_names_differ_in_case",
         }
     }
 
     /// Every code, in the order reports list them.
-    pub const ALL: [FindingCode; 13] = [
+    pub const ALL: [FindingCode; 14] = [
         FindingCode::HoldoutReused,
         FindingCode::HoldoutSmall,
         FindingCode::GapBeyondTheory,
@@ -56,6 +58,7 @@ impl FindingCode {
         FindingCode::HoldoutNEqualsTrainN,
         FindingCode::SplitSizeMismatch,
         FindingCode::RunIdRepeated,
+        FindingCode::SplitNamesDifferInCase,
     ];
 
     /// The code spelled as in reports.
@@ -66,8 +69,9 @@ impl FindingCode {
     }
 
     /// Findings that suggest the claim or the log says something else than meant (a
-    /// slip of scale or of column): a run that carries a claim and one of these fails
-    /// the gate unless `--gate-allow` names the code.
+    /// slip of scale, of column or of a split's spelling): a run that carries a claim
+    /// (or a claim of a claims file about it) and one of these fails the gate unless
+    /// `--gate-allow` names the code.
     pub fn blocks_gate(self) -> bool {
         matches!(
             self,
@@ -75,6 +79,7 @@ impl FindingCode {
                 | FindingCode::ClaimLooksLikeErrorRate
                 | FindingCode::ClaimLooksLikeAccuracy
                 | FindingCode::HoldoutNEqualsTrainN
+                | FindingCode::SplitNamesDifferInCase
         )
     }
 }

@@ -19,7 +19,9 @@ use rayon::prelude::*;
 
 pub use finding::{Finding, FindingCode};
 pub use per_run::{audit_run, holdout_needed_for, RunContext};
-pub use result::{gate_fails_on_claim, gate_fails_on_run, GateResult, RunResult, Summary, Verdict};
+pub use result::{
+    gate_fails_on_claim, gate_fails_on_run, gate_reason, GateResult, RunResult, Summary, Verdict,
+};
 
 pub use settings::{AuditSettings, Gate, HoldoutBound};
 
@@ -135,6 +137,12 @@ impl AuditScope {
         Ok(())
     }
 
+    /// Per held-out split whose name another split spells differently only in case:
+    /// every spelling of that name, sorted (finding `split_names_differ_in_case`).
+    pub fn case_twins(&self) -> std::collections::HashMap<String, Vec<String>> {
+        splits::split_spellings(self.sharing.keys().map(String::as_str))
+    }
+
     /// δ after the family-wise (Bonferroni) division, when asked for.
     pub fn delta(&self, settings: &AuditSettings) -> f64 {
         let delta = settings.delta();
@@ -179,6 +187,8 @@ pub struct Auditor<'a> {
     train_needed: Mutex<HashMap<Family, Option<u64>>>,
     holdout_needed: Mutex<HashMap<ClaimKey, Option<u64>>>,
     messages: bool,
+    /// Splits spelled in more than one case, with every spelling.
+    case_twins: std::collections::HashMap<String, Vec<String>>,
 }
 
 /// (observed rate, claimed error rate, δ/K) as bits: the inputs of `holdout_needed`.
@@ -193,6 +203,7 @@ impl<'a> Auditor<'a> {
             train_needed: Mutex::new(HashMap::default()),
             holdout_needed: Mutex::new(HashMap::default()),
             messages: true,
+            case_twins: scope.case_twins(),
         }
     }
 
@@ -266,6 +277,25 @@ impl<'a> Auditor<'a> {
                     split_size_mismatch: self.scope.split_size_mismatch(&input),
                 };
                 let mut result = audit_run(input, context, settings);
+                if let Some(spellings) = result
+                    .holdout_set
+                    .as_ref()
+                    .and_then(|split| self.case_twins.get(split))
+                {
+                    result.split_spellings = spellings.clone();
+                    let mut finding = Finding {
+                        code: FindingCode::SplitNamesDifferInCase,
+                        message: String::new(),
+                    };
+                    if self.messages {
+                        finding.message = explain::finding_message(
+                            &result,
+                            FindingCode::SplitNamesDifferInCase,
+                            settings,
+                        );
+                    }
+                    result.findings.push(finding);
+                }
                 result.holdout_needed = holdout_needed(&result);
                 if self.messages {
                     result.explanation = explain::explanation(&result);

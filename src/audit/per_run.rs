@@ -195,6 +195,7 @@ pub fn audit_run(input: RunInput, context: RunContext, settings: &AuditSettings)
         kept: input.kept,
         model: input.family,
         candidates_logged: input.candidates,
+        split_spellings: Vec::new(),
     };
     if context.messages {
         explain::fill_messages(&mut result, settings);
@@ -213,7 +214,7 @@ const OTHER_SCALE_DISTANCE: f64 = 0.1;
 /// scale than its column says (closer to the observed error rate than to the observed
 /// accuracy, or the reverse, and within [`OTHER_SCALE_DISTANCE`] of it), else a
 /// claimed accuracy below one half.
-fn implausible_claim(
+pub(crate) fn implausible_claim(
     claim: Option<f64>,
     form: Option<ClaimForm>,
     rate: f64,

@@ -87,6 +87,11 @@ pub struct RunResult {
     /// wear history of a split counts K as it grew). Not written out.
     #[serde(skip)]
     pub candidates_logged: u64,
+    /// Every spelling of the run's split when other runs spell it in another case
+    /// (finding `split_names_differ_in_case`); empty otherwise. Not written out: the
+    /// split entry names them.
+    #[serde(skip)]
+    pub split_spellings: Vec<String>,
 }
 
 /// The order reports list runs in, worst first: refuted, unproven, certified, no
@@ -136,6 +141,14 @@ pub struct Summary {
     pub claims_certified: usize,
     pub claims_unproven: usize,
     pub claims_refuted: usize,
+    /// Claims of the claims files with a finding that fails the gate (see
+    /// [`crate::audit::claims::ClaimResult::findings`]) not allowed by `--gate-allow`.
+    #[serde(default)]
+    pub claim_gate_findings: usize,
+    /// Rows skipped under `--lenient` that carried a claim (a claim cell, or
+    /// `--claim-accuracy`): a claim the audit could not read fails the gate.
+    #[serde(default)]
+    pub claims_skipped: usize,
     pub gate: GateResult,
 }
 
@@ -162,9 +175,18 @@ impl Summary {
         }
     }
 
-    /// Counts one claim of a claims file.
-    pub fn count_claim(&mut self, verdict: Verdict) {
+    /// Counts one claim of a claims file; `gate_allow` are the codes `--gate-allow`
+    /// names.
+    pub fn count_claim(
+        &mut self,
+        verdict: Verdict,
+        findings: &[Finding],
+        gate_allow: &[FindingCode],
+    ) {
         self.claims += 1;
+        if slip(findings, gate_allow) {
+            self.claim_gate_findings += 1;
+        }
         match verdict {
             Verdict::Certified => self.claims_certified += 1,
             Verdict::Unproven | Verdict::NoClaim => self.claims_unproven += 1,
@@ -180,9 +202,10 @@ impl Summary {
             self.unproven + self.claims_unproven,
             self.refuted + self.claims_refuted,
         );
+        let slips = self.gate_findings + self.claim_gate_findings + self.claims_skipped;
         let fails = match gate {
-            Gate::Unproven => unproven + refuted + self.gate_findings > 0,
-            Gate::Refuted => refuted + self.gate_findings > 0,
+            Gate::Unproven => unproven + refuted + slips > 0,
+            Gate::Refuted => refuted + slips > 0,
             Gate::Never => false,
         };
         self.gate = if fails {
@@ -211,12 +234,49 @@ pub fn gate_fails_on_run(run: &RunResult, gate: Gate, gate_allow: &[FindingCode]
     }
 }
 
-/// Whether `gate` fails on a claim of a claims file with this verdict.
-pub fn gate_fails_on_claim(verdict: Verdict, gate: Gate) -> bool {
+/// Whether `gate` fails on a claim of a claims file with this verdict and these
+/// findings: not certified (`unproven`) or refuted (`refuted`), or with a finding
+/// that suggests a slip not allowed by `gate_allow`.
+pub fn gate_fails_on_claim(
+    verdict: Verdict,
+    findings: &[Finding],
+    gate: Gate,
+    gate_allow: &[FindingCode],
+) -> bool {
+    let slip = slip(findings, gate_allow);
     match gate {
+        Gate::Unproven => verdict != Verdict::Certified || slip,
+        Gate::Refuted => verdict == Verdict::Refuted || slip,
+        Gate::Never => false,
+    }
+}
+
+/// Whether a finding fails the gate, not allowed by `gate_allow`.
+fn slip(findings: &[Finding], gate_allow: &[FindingCode]) -> bool {
+    findings
+        .iter()
+        .any(|f| f.code.blocks_gate() && !gate_allow.contains(&f.code))
+}
+
+/// What fails the gate on a run or claim, named first in reports: the first
+/// finding that fails it when the verdict alone would pass, else the verdict.
+pub fn gate_reason<'a>(
+    verdict: Verdict,
+    findings: &'a [Finding],
+    gate: Gate,
+    gate_allow: &[FindingCode],
+) -> Result<&'a Finding, Verdict> {
+    let verdict_fails = match gate {
         Gate::Unproven => verdict != Verdict::Certified,
         Gate::Refuted => verdict == Verdict::Refuted,
         Gate::Never => false,
+    };
+    match findings
+        .iter()
+        .find(|f| f.code.blocks_gate() && !gate_allow.contains(&f.code))
+    {
+        Some(finding) if !verdict_fails => Ok(finding),
+        _ => Err(verdict),
     }
 }
 

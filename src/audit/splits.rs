@@ -19,9 +19,11 @@
 
 use serde::{Deserialize, Serialize};
 
+use super::claims::ClaimResult;
 use super::per_run::one_sided_bounds;
 use super::result::RunResult;
 use super::settings::{AuditSettings, HoldoutBound};
+use crate::claim::ClaimKind;
 use crate::theory::reuse::{max_candidates_binomial, max_candidates_hoeffding, CANDIDATES_CAP};
 
 /// One point of a split's wear history.
@@ -51,7 +53,8 @@ pub struct SplitEntry {
     pub best_run: String,
     pub best_error_rate: f64,
     pub best_misclassified: u64,
-    /// The best run's claimed error (its own, or `--claim-accuracy`'s).
+    /// The best run's claimed error (its own, `--claim-accuracy`'s, or a claims
+    /// file's: see `claim`).
     pub claim_error_rate: Option<f64>,
     pub certifiable_now: f64,
     pub certifiable_fresh: f64,
@@ -59,6 +62,14 @@ pub struct SplitEntry {
     pub comparisons_left: Option<u64>,
     /// Runs of the split log different held-out sizes (finding `split_size_mismatch`).
     pub size_mismatch: bool,
+    /// The claim of a claims file `claim_error_rate` and `comparisons_left` come from,
+    /// when the best run has no claim of its own.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub claim: Option<String>,
+    /// Every spelling of the split's name when other splits differ from it only in
+    /// case (finding `split_names_differ_in_case`), sorted; empty otherwise.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub spellings: Vec<String>,
     /// δ before the division by K (after `--familywise`): the level of a split used
     /// once.
     pub delta: f64,
@@ -207,11 +218,79 @@ impl SplitAccumulator {
     /// The split entries, in the order the splits first appear. `delta` is δ after
     /// `--familywise` (the runs' δ/K times K).
     pub fn finish(self, settings: &AuditSettings, delta: f64) -> Vec<SplitEntry> {
+        self.finish_with_claims(settings, delta, &[])
+    }
+
+    /// [`SplitAccumulator::finish`], with the claims of the claims files: a best run
+    /// without a claim of its own takes the strictest `accuracy` / `error` claim that
+    /// names it exactly (SPEC §11's "the best run's claim").
+    pub fn finish_with_claims(
+        self,
+        settings: &AuditSettings,
+        delta: f64,
+        claims: &[ClaimResult],
+    ) -> Vec<SplitEntry> {
+        let twins = split_spellings(self.splits.iter().map(|state| state.split.as_str()));
         self.splits
             .into_iter()
-            .map(|state| entry(state, settings, delta))
+            .map(|mut state| {
+                let mut claim = None;
+                if state.best.claim.is_none() {
+                    if let Some(file_claim) = file_claim_on(claims, &state.best.run) {
+                        state.best.claim = Some(file_claim.threshold);
+                        claim = Some(file_claim.claim.clone());
+                    }
+                }
+                let spellings = twins.get(&state.split).cloned().unwrap_or_default();
+                SplitEntry {
+                    spellings,
+                    claim,
+                    ..entry(state, settings, delta)
+                }
+            })
             .collect()
     }
+}
+
+/// Groups split names that differ only in case: for each name with another spelling,
+/// every spelling of it, sorted. Names with one spelling are left out.
+pub fn split_spellings<'a>(
+    names: impl Iterator<Item = &'a str>,
+) -> std::collections::HashMap<String, Vec<String>> {
+    let mut groups: std::collections::HashMap<String, Vec<String>> =
+        std::collections::HashMap::new();
+    for name in names {
+        let spellings = groups.entry(name.to_lowercase()).or_default();
+        if !spellings.iter().any(|known| known == name) {
+            spellings.push(name.to_string());
+        }
+    }
+    let mut twins = std::collections::HashMap::new();
+    for (_, mut spellings) in groups {
+        if spellings.len() > 1 {
+            spellings.sort_unstable();
+            for name in &spellings {
+                twins.insert(name.clone(), spellings.clone());
+            }
+        }
+    }
+    twins
+}
+
+/// The strictest claim of a claims file on `run` alone (kind `accuracy` or `error`,
+/// the run named exactly, the lowest claimed error rate); ties go to the first claim.
+pub fn file_claim_on<'a>(claims: &'a [ClaimResult], run: &str) -> Option<&'a ClaimResult> {
+    claims
+        .iter()
+        .filter(|claim| {
+            matches!(claim.kind, ClaimKind::Accuracy | ClaimKind::Error)
+                && claim.run == run
+                && !claim.run.contains(['*', '?'])
+        })
+        .fold(None, |best: Option<&ClaimResult>, next| match best {
+            Some(best) if best.threshold <= next.threshold => Some(best),
+            _ => Some(next),
+        })
 }
 
 /// The split entries of `runs` (in input order).
@@ -302,6 +381,8 @@ fn entry(state: SplitState, settings: &AuditSettings, delta: f64) -> SplitEntry 
         reuse_cost: certifiable_fresh - certifiable_now,
         comparisons_left,
         size_mismatch: state.smallest_n != state.largest_n,
+        spellings: Vec::new(),
+        claim: None,
         delta,
         bound,
         history,

@@ -58,10 +58,22 @@ pub fn read_claims(
 ) -> Result<ClaimsRead, Error> {
     let mut read = ClaimsRead::default();
     let mut problems = Vec::new();
+    let mut seen_paths: Vec<PathBuf> = Vec::new();
     for source in sources {
         let (label, bytes, format) = match source {
             ClaimsSource::Path(path) => {
                 let label = path.display().to_string();
+                // The same file given twice would repeat every claim (and name each
+                // claim's identifier as used by itself).
+                let identity = std::fs::canonicalize(path).unwrap_or_else(|_| path.clone());
+                if seen_paths.contains(&identity) {
+                    problems.push(Problem::file(
+                        &label,
+                        "this claims file is given more than once (--claims); give it once",
+                    ));
+                    continue;
+                }
+                seen_paths.push(identity);
                 let Some(format) = LogFormat::from_path(path) else {
                     return Err(Error::Usage(format!(
                         "--claims {label}: unknown file type; claims files are read like logs (.csv, .tsv, .parquet, .jsonl, .ndjson, .json, .arrow, .ipc, .feather)"
@@ -123,7 +135,10 @@ pub fn read_claims(
             ));
         }
     }
-    read.problems = problems;
+    // Problems in row order, file by file (a problem of the whole file first).
+    let file_order = |file: &str| read.inputs.iter().position(|input| input.path == file);
+    problems.sort_by_key(|problem| (file_order(&problem.file), problem.row));
+    read.problems = problems.into_iter().map(Problem::of_claims_file).collect();
     Ok(read)
 }
 
@@ -182,6 +197,19 @@ fn claims_of_table(
     );
     let mut cell_problems = Vec::new();
     let values = extract_f64(label, df, value_at, decimal_comma, &mut cell_problems);
+    // The scale guard of the logs (SPEC §3), per file: under --percent, a file whose
+    // every value lies within [0, 1] holds fractions.
+    let mut read_values = values.iter().flatten().peekable();
+    if percent
+        && read_values.peek().is_some()
+        && read_values.all(|value| (0.0..=1.0).contains(value))
+    {
+        problems.push(Problem::file(
+            label,
+            "every value in this claims file lies within [0, 1], so it holds fractions, but --percent reads them as percentages (0.94 would mean 0.94 %); write the values as percentages, or drop --percent",
+        ));
+        return;
+    }
     let counts = |column: &str, problems: &mut Vec<Problem>| match index(column) {
         Some(at) => extract_i64(label, df, at, problems),
         None => vec![None; height],

@@ -655,6 +655,7 @@ fn unreadable_column<T>(
             "column {name} has type {} where numbers were expected",
             series.dtype()
         ),
+        in_claims_file: false,
     });
     (0..series.len()).map(|_| None).collect()
 }

@@ -133,6 +133,8 @@ pub fn map_files<S: Sync, T: Send>(items: &[S], work: impl Fn(&S) -> T + Sync) -
 pub struct FileReport {
     /// Problems per bad row (file row numbers), in row order.
     pub bad_rows: Vec<(usize, Vec<Problem>)>,
+    /// The rows of `bad_rows` that carry a claim.
+    pub claim_rows: Vec<usize>,
     /// Problems with the file as a whole; when any, the file yields no runs.
     pub file_problems: Vec<Problem>,
     /// What reading it noticed that is worth saying under `-v` (a rename that did not
@@ -293,6 +295,7 @@ impl Collected {
                 self.skipped_rows.push(SkippedRow {
                     source: format!("{}:{row}", log.label),
                     reasons: row_problems.iter().map(|p| p.message.clone()).collect(),
+                    carries_claim: report.claim_rows.binary_search(&row).is_ok(),
                 });
             } else {
                 self.problems.extend(row_problems);
@@ -338,6 +341,7 @@ impl Collected {
                 row: None,
                 column: None,
                 message: "no usable runs were found in the given logs".to_string(),
+                in_claims_file: false,
             }]));
         }
         Ok(())
@@ -522,6 +526,7 @@ impl<'a> OpenedLog<'a> {
                 let batch =
                     rows::table_runs(&self.label, &slice, offset + start, settings, problems);
                 report.bad_rows.extend(batch.bad_rows);
+                report.claim_rows.extend(batch.claim_rows);
                 report.file_problems.extend(batch.file_problems);
                 for note in batch.notes {
                     if !report.notes.contains(&note) {

@@ -57,6 +57,10 @@ const PARALLEL_ROWS: usize = 4096;
 pub struct SkippedRow {
     pub source: String,
     pub reasons: Vec<String>,
+    /// The row carried a claim (a claim cell, or `--claim-accuracy` applied to it):
+    /// the gate fails on it, since the claim could not be audited.
+    #[serde(default)]
+    pub carries_claim: bool,
 }
 
 /// The runs of one table plus the problems of the rows that could not be used.
@@ -64,6 +68,9 @@ pub struct TableRuns {
     pub runs: Vec<RunInput>,
     /// Problems per bad row, in row order (each inner list non-empty).
     pub bad_rows: Vec<(usize, Vec<Problem>)>,
+    /// The rows of `bad_rows` that carry a claim (a claim cell, or
+    /// `--claim-accuracy`).
+    pub claim_rows: Vec<usize>,
     /// Problems that concern the whole file (a missing required column).
     pub file_problems: Vec<Problem>,
     /// Rates, accuracies and claims seen, and whether any was above 1 (for the check
@@ -191,6 +198,7 @@ pub fn table_runs(
         return TableRuns {
             runs: Vec::new(),
             bad_rows: Vec::new(),
+            claim_rows: Vec::new(),
             file_problems,
             scale: ScaleEvidence::default(),
             notes: Vec::new(),
@@ -283,6 +291,7 @@ pub fn table_runs(
         return TableRuns {
             runs: Vec::new(),
             bad_rows: Vec::new(),
+            claim_rows: Vec::new(),
             file_problems,
             scale: ScaleEvidence::default(),
             notes: Vec::new(),
@@ -357,9 +366,15 @@ pub fn table_runs(
             .enumerate()
             .partition_map(assemble)
     };
+    let claim_rows = bad_rows
+        .iter()
+        .filter(|(row, problems)| table.carries_claim(row - row_offset - 1, problems))
+        .map(|(row, _)| *row)
+        .collect();
     TableRuns {
         runs,
         bad_rows,
+        claim_rows,
         file_problems,
         scale,
         notes: binding.notes,
@@ -466,6 +481,21 @@ impl Extracted<'_> {
             .get(slot(canonical))
             .map(String::as_str)
             .unwrap_or("")
+    }
+
+    /// Whether row `i` (0-based) carries a claim: a claim cell (readable or not), or
+    /// `--claim-accuracy`, which applies to every row without one.
+    fn carries_claim(&self, i: usize, problems: &[Problem]) -> bool {
+        let columns = ["claimed_accuracy", "claimed_error_rate"];
+        self.settings.default_claim_accuracy.is_some()
+            || columns.iter().any(|column| self.float(column, i).is_some())
+            || problems.iter().any(|problem| {
+                problem.column.as_deref().is_some_and(|name| {
+                    columns
+                        .iter()
+                        .any(|column| !self.name(column).is_empty() && self.name(column) == name)
+                })
+            })
     }
 
     /// Validates row `i` (0-based) into a run, or returns every problem of the row.

@@ -150,6 +150,21 @@ fn verdict_class(verdict: Verdict) -> &'static str {
     verdict.as_str()
 }
 
+/// A run's verdict badge: its own, or for a run without a claim of its own that of
+/// the strictest claims-file claim about it alone, naming the claim.
+fn run_verdict_badge(doc: &AuditDocument, run: &RunResult) -> String {
+    let (verdict, words) = super::text::verdict_text(run, &doc.claims);
+    if verdict == run.verdict {
+        verdict_badge(verdict)
+    } else {
+        let claim = words
+            .strip_prefix(verdict.as_str())
+            .unwrap_or_default()
+            .trim();
+        format!("{} {}", verdict_badge(verdict), escape_html(claim))
+    }
+}
+
 fn verdict_badge(verdict: Verdict) -> String {
     format!(
         "<span class=\"verdict {}\">{}</span>",
@@ -172,15 +187,50 @@ fn chosen_interval(doc: &AuditDocument, run: &RunResult) -> [f64; 2] {
     }
 }
 
-fn gate_explanation(doc: &AuditDocument) -> &'static str {
-    match (doc.settings.gate, doc.summary.gate) {
-        (Gate::Unproven, GateResult::Pass) => "every claim in these logs is certified",
-        (Gate::Unproven, GateResult::Fail) => "at least one claim is not certified",
+/// Why the gate passed or failed, naming every reason it failed for: claims not
+/// certified (or refuted), findings that suggest a slip, rows with a claim that
+/// could not be read.
+fn gate_explanation(doc: &AuditDocument) -> String {
+    let s = &doc.summary;
+    match (doc.settings.gate, s.gate) {
+        (Gate::Unproven, GateResult::Pass) => "every claim in these logs is certified".to_string(),
         (Gate::Refuted, GateResult::Pass) => {
-            "no claim is refuted (unproven claims are allowed by this gate)"
+            "no claim is refuted (unproven claims are allowed by this gate)".to_string()
         }
-        (Gate::Refuted, GateResult::Fail) => "at least one claim is refuted",
-        (Gate::Never, _) => "this gate never fails; the verdicts are for information",
+        (Gate::Never, _) => "this gate never fails; the verdicts are for information".to_string(),
+        (gate, GateResult::Fail) => {
+            let mut reasons = Vec::new();
+            let refuted = s.refuted + s.claims_refuted;
+            let unproven = s.unproven + s.claims_unproven;
+            if gate == Gate::Unproven && refuted + unproven > 0 {
+                reasons.push("at least one claim is not certified".to_string());
+            } else if refuted > 0 {
+                reasons.push("at least one claim is refuted".to_string());
+            }
+            let slips = s.gate_findings + s.claim_gate_findings;
+            if slips > 0 {
+                reasons.push(format!(
+                    "{} {} a finding that suggests a slip (see the findings; --gate-allow CODE if intended)",
+                    group_thousands(slips as u64),
+                    if slips == 1 { "claim has" } else { "claims have" }
+                ));
+            }
+            if s.claims_skipped > 0 {
+                reasons.push(format!(
+                    "{} skipped {} carried a claim that could not be audited",
+                    group_thousands(s.claims_skipped as u64),
+                    if s.claims_skipped == 1 { "row" } else { "rows" }
+                ));
+            }
+            if reasons.is_empty() {
+                reasons.push("the gate failed".to_string());
+            }
+            if gate == Gate::Unproven && refuted + unproven == 0 {
+                format!("every claim is certified, but {}", reasons.join("; "))
+            } else {
+                reasons.join("; ")
+            }
+        }
     }
 }
 
@@ -210,7 +260,7 @@ fn summary_band(doc: &AuditDocument, page: &mut String) {
         "<p><span class=\"gate {gate_class}\">Gate ({}): {}</span> &nbsp;{}.</p>\n",
         settings.gate.as_str(),
         gate_word(s.gate),
-        gate_explanation(doc)
+        escape_html(&gate_explanation(doc))
     ));
     page.push_str("<div class=\"tiles\">\n");
     page.push_str(&format!(
@@ -713,7 +763,7 @@ fn run_rows(doc: &AuditDocument, run: &RunResult) -> String {
 <td class=\"num\">{} – {}<span class=\"sub\">{} / {}</span></td>\
 <td class=\"num\">{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td></tr>\n",
         " class=\"has-findings\"",
-        verdict_badge(run.verdict),
+        run_verdict_badge(doc, run),
         escape_html(&run.run),
         split,
         escape_html(&run.source),

@@ -4,6 +4,11 @@
 //! [`gate_fails_on_claim`]), with the explanation (runs) or evidence (claims) as the
 //! failure message; the verdict, method, confidence and bounds are its properties.
 //!
+//! A failure's `type` and the start of its `message` name what fails the gate: the
+//! verdict, or the code of the finding that fails it when the verdict alone would
+//! pass. A row skipped under `--lenient` that carried a claim is an `error` case
+//! (the claim could not be audited), with the row's problems.
+//!
 //! The format has no formal standard; this follows the de facto schema most CI
 //! systems read (common practice): `testsuites` > `testsuite` > `testcase`, with
 //! `failure`, `properties` and `system-out`.
@@ -13,7 +18,8 @@ use std::io::{self, Write};
 use super::document::AuditDocument;
 use super::text::percent;
 use crate::audit::claims::ClaimResult;
-use crate::audit::{gate_fails_on_claim, gate_fails_on_run, RunResult};
+use crate::audit::{gate_fails_on_claim, gate_fails_on_run, gate_reason, RunResult};
+use crate::ingest::SkippedRow;
 
 /// Writes the document as JUnit XML.
 pub fn write_junit(doc: &AuditDocument, out: &mut dyn Write) -> io::Result<()> {
@@ -31,16 +37,30 @@ pub fn write_junit(doc: &AuditDocument, out: &mut dyn Write) -> io::Result<()> {
     let claim_fails: Vec<bool> = doc
         .claims
         .iter()
-        .map(|claim| gate_fails_on_claim(claim.verdict, settings.gate))
+        .map(|claim| {
+            gate_fails_on_claim(
+                claim.verdict,
+                &claim.findings,
+                settings.gate,
+                &settings.gate_allow,
+            )
+        })
         .collect();
     let count = |fails: &[bool]| fails.iter().filter(|&&f| f).count();
     let failures = count(&run_fails) + count(&claim_fails);
+    let skipped: Vec<&SkippedRow> = doc
+        .skipped_rows
+        .iter()
+        .filter(|row| row.carries_claim)
+        .collect();
 
-    let mut xml = String::with_capacity(1024 + 1024 * (runs.len() + doc.claims.len()));
+    let mut xml =
+        String::with_capacity(1024 + 1024 * (runs.len() + doc.claims.len() + skipped.len()));
     xml.push_str("<?xml version=\"1.0\" encoding=\"UTF-8\"?>\n");
     xml.push_str(&format!(
-        "<testsuites name=\"gapcert audit\" tests=\"{}\" failures=\"{failures}\" errors=\"0\" time=\"0\">\n",
-        runs.len() + doc.claims.len()
+        "<testsuites name=\"gapcert audit\" tests=\"{}\" failures=\"{failures}\" errors=\"{}\" time=\"0\">\n",
+        runs.len() + doc.claims.len() + skipped.len(),
+        skipped.len()
     ));
     let suite_properties = [
         ("confidence", confidence.clone()),
@@ -62,15 +82,38 @@ pub fn write_junit(doc: &AuditDocument, out: &mut dyn Write) -> io::Result<()> {
         &mut xml,
         "claims in the logs",
         runs.len(),
-        count(&run_fails),
+        (count(&run_fails), 0),
         &doc.generated_at,
         &suite_properties,
     );
+    let audit_settings = doc.settings.audit_settings();
     for (run, &fails) in runs.iter().zip(&run_fails) {
+        let failure = fails.then(|| {
+            match gate_reason(
+                run.verdict,
+                &run.findings,
+                settings.gate,
+                &settings.gate_allow,
+            ) {
+                Ok(finding) => {
+                    let sentence =
+                        crate::audit::explain::finding_sentence(run, finding, &audit_settings);
+                    (
+                        finding.code.as_str().to_string(),
+                        format!(
+                            "{}: {sentence} (verdict: {})",
+                            finding.code.as_str(),
+                            run.explanation
+                        ),
+                    )
+                }
+                Err(verdict) => (verdict.as_str().to_string(), run.explanation.clone()),
+            }
+        });
         run_case(
             &mut xml,
             run,
-            fails,
+            failure,
             &confidence,
             doc.settings.holdout_bound.as_str(),
         );
@@ -82,12 +125,45 @@ pub fn write_junit(doc: &AuditDocument, out: &mut dyn Write) -> io::Result<()> {
             &mut xml,
             "claims under review",
             doc.claims.len(),
-            count(&claim_fails),
+            (count(&claim_fails), 0),
             &doc.generated_at,
             &suite_properties,
         );
         for (claim, &fails) in doc.claims.iter().zip(&claim_fails) {
-            claim_case(&mut xml, claim, fails, &confidence);
+            let failure = fails.then(|| {
+                match gate_reason(
+                    claim.verdict,
+                    &claim.findings,
+                    settings.gate,
+                    &settings.gate_allow,
+                ) {
+                    Ok(finding) => (
+                        finding.code.as_str().to_string(),
+                        format!(
+                            "{}: {} (verdict: {})",
+                            finding.code.as_str(),
+                            finding.message,
+                            claim.evidence
+                        ),
+                    ),
+                    Err(verdict) => (verdict.as_str().to_string(), claim.evidence.clone()),
+                }
+            });
+            claim_case(&mut xml, claim, failure, &confidence);
+        }
+        xml.push_str("  </testsuite>\n");
+    }
+    if !skipped.is_empty() {
+        open_suite(
+            &mut xml,
+            "rows skipped with a claim",
+            skipped.len(),
+            (0, skipped.len()),
+            &doc.generated_at,
+            &suite_properties,
+        );
+        for row in &skipped {
+            skipped_case(&mut xml, row);
         }
         xml.push_str("  </testsuite>\n");
     }
@@ -99,12 +175,12 @@ fn open_suite(
     xml: &mut String,
     name: &str,
     tests: usize,
-    failures: usize,
+    (failures, errors): (usize, usize),
     timestamp: &str,
     properties: &[(&str, String)],
 ) {
     xml.push_str(&format!(
-        "  <testsuite name=\"{}\" tests=\"{tests}\" failures=\"{failures}\" errors=\"0\" skipped=\"0\" time=\"0\" timestamp=\"{}\">\n",
+        "  <testsuite name=\"{}\" tests=\"{tests}\" failures=\"{failures}\" errors=\"{errors}\" skipped=\"0\" time=\"0\" timestamp=\"{}\">\n",
         escape_xml(name),
         escape_xml(timestamp)
     ));
@@ -130,7 +206,34 @@ fn file_of(source: &str) -> &str {
     source.rsplit_once(':').map_or(source, |(file, _)| file)
 }
 
-fn run_case(xml: &mut String, run: &RunResult, fails: bool, confidence: &str, method: &str) {
+/// A row skipped under `--lenient` that carried a claim: an `error` case with the
+/// row's problems (the claim could not be audited, so the gate fails).
+fn skipped_case(xml: &mut String, row: &SkippedRow) {
+    xml.push_str(&format!(
+        "    <testcase classname=\"{}\" name=\"{}: skipped row with a claim\" time=\"0\">\n",
+        escape_xml(file_of(&row.source)),
+        escape_xml(&row.source)
+    ));
+    let message = format!(
+        "skipped_row: {}: the row carries a claim but could not be read ({}), so its claim was not audited",
+        row.source,
+        row.reasons.join("; ")
+    );
+    let mut details = row.reasons.clone();
+    details.push(format!("source: {}", row.source));
+    xml.push_str(&format!(
+        "      <error type=\"skipped_row\" message=\"{}\">{}</error>\n",
+        escape_xml(&message),
+        escape_xml_text(&details.join("\n"))
+    ));
+    xml.push_str("    </testcase>\n");
+}
+
+/// What fails the gate on a case, as the failure's (type, message); `None` when the
+/// gate does not fail on it.
+type Failure = Option<(String, String)>;
+
+fn run_case(xml: &mut String, run: &RunResult, failure: Failure, confidence: &str, method: &str) {
     let claimed = run
         .claim_error_rate
         .map(|error| format!(": claimed accuracy {}", percent(1.0 - error)))
@@ -168,10 +271,10 @@ fn run_case(xml: &mut String, run: &RunResult, fails: bool, confidence: &str, me
         }
     }));
     details.push(format!("source: {}", run.source));
-    finish_case(xml, fails, run.verdict.as_str(), &run.explanation, &details);
+    finish_case(xml, failure, &details);
 }
 
-fn claim_case(xml: &mut String, claim: &ClaimResult, fails: bool, confidence: &str) {
+fn claim_case(xml: &mut String, claim: &ClaimResult, failure: Failure, confidence: &str) {
     let statement = claim
         .statement
         .as_deref()
@@ -201,25 +304,26 @@ fn claim_case(xml: &mut String, claim: &ClaimResult, fails: bool, confidence: &s
         properties.push(("mcnemar_p", p.to_string()));
     }
     push_properties(xml, "      ", &properties);
-    let details = vec![claim.evidence.clone(), format!("source: {}", claim.source)];
-    finish_case(
-        xml,
-        fails,
-        claim.verdict.as_str(),
-        &claim.evidence,
-        &details,
+    let mut details = vec![claim.evidence.clone()];
+    details.extend(
+        claim
+            .findings
+            .iter()
+            .map(|f| format!("{}: {}", f.code.as_str(), f.message)),
     );
+    details.push(format!("source: {}", claim.source));
+    finish_case(xml, failure, &details);
 }
 
 /// The failure (when the gate fails on the case) or the explanation as output, and
 /// the closing tag.
-fn finish_case(xml: &mut String, fails: bool, verdict: &str, message: &str, details: &[String]) {
+fn finish_case(xml: &mut String, failure: Failure, details: &[String]) {
     let body = escape_xml_text(&details.join("\n"));
-    if fails {
+    if let Some((kind, message)) = failure {
         xml.push_str(&format!(
             "      <failure type=\"{}\" message=\"{}\">{body}</failure>\n",
-            escape_xml(verdict),
-            escape_xml(message)
+            escape_xml(&kind),
+            escape_xml(&message)
         ));
     } else {
         xml.push_str(&format!("      <system-out>{body}</system-out>\n"));

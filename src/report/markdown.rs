@@ -9,6 +9,19 @@ use super::text::{
     group_thousands, left_out_line, percent, shown_runs, summary_line, Presentation,
 };
 
+/// The verdict column (see [`super::text::verdict_text`]); a run's own verdict as is.
+fn verdict_cell(
+    run: &crate::audit::RunResult,
+    claims: &[crate::audit::claims::ClaimResult],
+) -> String {
+    let (verdict, words) = super::text::verdict_text(run, claims);
+    if words == verdict.as_str() {
+        words
+    } else {
+        escape_markdown(&words)
+    }
+}
+
 pub fn write_markdown(
     doc: &AuditDocument,
     out: &mut dyn Write,
@@ -41,7 +54,7 @@ pub fn write_markdown(
         writeln!(
             out,
             "| {} | {} | {} ({}/{}) | {} | {} | {} | {} | {} | {}–{} | {} | {} |",
-            run.verdict.as_str(),
+            verdict_cell(run, &doc.claims),
             escape_markdown(&run.run),
             percent(run.holdout_error_rate),
             run.holdout_misclassified,

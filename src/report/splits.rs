@@ -21,6 +21,45 @@ pub fn splits_worth_showing(splits: &[SplitEntry]) -> Vec<&SplitEntry> {
 }
 
 fn left_text(entry: &SplitEntry) -> String {
+    let text = left_number(entry);
+    match &entry.claim {
+        Some(claim) => format!("{text} (claim {claim})"),
+        None => text,
+    }
+}
+
+/// What a reader should know about a split beyond its numbers: another spelling of
+/// its name, a wear history that covers fewer runs than K counts.
+pub fn split_notes(entry: &SplitEntry) -> Vec<String> {
+    let mut notes = Vec::new();
+    if !entry.spellings.is_empty() {
+        let others: Vec<String> = entry
+            .spellings
+            .iter()
+            .filter(|s| **s != entry.split)
+            .map(|s| format!("`{s}`"))
+            .collect();
+        notes.push(format!(
+            "split `{}` is also spelled {} (split_names_differ_in_case): they are counted as separate splits, each with a smaller K; spell the split one way",
+            entry.split,
+            others.join(", ")
+        ));
+    }
+    let dated = entry.history.len() as u64;
+    if dated > 0 && dated < entry.runs {
+        notes.push(format!(
+            "split `{}`: the wear history covers {} of its {} runs ({} lack logged_at), so it stops short of K = {}",
+            entry.split,
+            group_thousands(dated),
+            group_thousands(entry.runs),
+            group_thousands(entry.runs - dated),
+            group_thousands(entry.candidates)
+        ));
+    }
+    notes
+}
+
+fn left_number(entry: &SplitEntry) -> String {
     match entry.comparisons_left {
         Some(left) if left >= crate::theory::reuse::CANDIDATES_CAP - entry.candidates => {
             "10¹² or more".to_string()
@@ -121,6 +160,11 @@ pub fn write_splits_text(
             group_thousands((shown.len() - SPLITS_SHOWN) as u64)
         )?;
     }
+    for entry in shown.iter().take(SPLITS_SHOWN) {
+        for note in split_notes(entry) {
+            writeln!(out, "{}", wrap(&printable(&note), width, "", "  "))?;
+        }
+    }
     let note = "certifiable now: the accuracy the split's best run can certify with K models compared on it; used once: with K = 1; comparisons left: more models the split can take before the best run's claim stops being certified.";
     writeln!(out, "{}", wrap(note, width, "", ""))?;
     writeln!(out)
@@ -159,6 +203,17 @@ pub fn write_splits_markdown(splits: &[SplitEntry], out: &mut dyn Write) -> io::
             "{} more splits in the JSON and HTML reports.",
             shown.len() - SPLITS_SHOWN
         )?;
+    }
+    let notes: Vec<String> = shown
+        .iter()
+        .take(SPLITS_SHOWN)
+        .flat_map(|entry| split_notes(entry))
+        .collect();
+    if !notes.is_empty() {
+        writeln!(out)?;
+        for note in notes {
+            writeln!(out, "- {}", escape_markdown(&note))?;
+        }
     }
     writeln!(out)
 }

@@ -90,7 +90,12 @@ pub fn write_table(
     }
     table.set_header(headers(doc.settings.holdout_bound.as_str()).to_vec());
     for run in &shown {
-        table.add_row(row_cells(run, color, doc.settings.holdout_bound));
+        table.add_row(row_cells(
+            run,
+            &doc.claims,
+            color,
+            doc.settings.holdout_bound,
+        ));
     }
     for column in 2..13 {
         if let Some(c) = table.column_mut(column) {
@@ -246,10 +251,16 @@ fn fit_to_width(table: &mut Table, width: u16) -> Vec<String> {
     hidden
 }
 
-fn row_cells(run: &RunResult, color: bool, method: crate::audit::HoldoutBound) -> Vec<Cell> {
-    let verdict = Cell::new(run.verdict.as_str());
+fn row_cells(
+    run: &RunResult,
+    claims: &[crate::audit::claims::ClaimResult],
+    color: bool,
+    method: crate::audit::HoldoutBound,
+) -> Vec<Cell> {
+    let (shown_verdict, verdict_words) = super::text::verdict_text(run, claims);
+    let verdict = Cell::new(printable(&verdict_words));
     let verdict = if color {
-        match run.verdict {
+        match shown_verdict {
             Verdict::Refuted => verdict.fg(Color::Red).add_attribute(Attribute::Bold),
             Verdict::Unproven => verdict.fg(Color::Yellow),
             Verdict::Certified => verdict.fg(Color::Green),

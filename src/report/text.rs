@@ -1,6 +1,7 @@
 //! Wording shared by the human-readable reports.
 
 use super::document::AuditDocument;
+use crate::audit::claims::ClaimResult;
 pub use crate::audit::result::worst_first;
 use crate::audit::{GateResult, RunResult, Verdict};
 
@@ -117,6 +118,9 @@ pub fn left_out_line(shown: usize, left_out: usize, presentation: &Presentation)
     ))
 }
 
+/// Skipped rows with a claim named one by one in the summary line.
+const SKIPPED_NAMED: usize = 10;
+
 /// "24 runs: 9 certified, 5 unproven, 1 refuted, 9 without a claim. Gate (unproven): FAIL."
 pub fn summary_line(doc: &AuditDocument) -> String {
     let s = &doc.summary;
@@ -175,6 +179,32 @@ pub fn summary_line(doc: &AuditDocument) -> String {
             s.gate_findings
         ));
     }
+    if s.claim_gate_findings > 0 {
+        line.push_str(&format!(
+            " {} claim(s) of the claims files fail the gate on a finding that suggests a slip (see their findings; --gate-allow CODE if intended).",
+            s.claim_gate_findings
+        ));
+    }
+    let with_claim: Vec<String> = doc
+        .skipped_rows
+        .iter()
+        .filter(|row| row.carries_claim)
+        .take(SKIPPED_NAMED)
+        .map(|row| format!("{} ({})", row.source, row.reasons.join("; ")))
+        .collect();
+    if !with_claim.is_empty() {
+        let more = s.claims_skipped.saturating_sub(with_claim.len());
+        line.push_str(&format!(
+            " {} skipped row(s) carried a claim that could not be audited, which fails the gate: {}{}.",
+            s.claims_skipped,
+            with_claim.join(", "),
+            if more > 0 {
+                format!(", and {more} more (JSON lists every one)")
+            } else {
+                String::new()
+            }
+        ));
+    }
     if s.files_skipped > 0 {
         line.push_str(&format!(" Files skipped: {}.", s.files_skipped));
     }
@@ -185,6 +215,21 @@ pub fn summary_line(doc: &AuditDocument) -> String {
         ));
     }
     line
+}
+
+/// The verdict column of a run: its own verdict, or for a run without a claim of its
+/// own the verdict of the strictest claims-file claim about it alone (`accuracy` or
+/// `error`), naming the claim.
+pub fn verdict_text(run: &RunResult, claims: &[ClaimResult]) -> (Verdict, String) {
+    if run.verdict == Verdict::NoClaim {
+        if let Some(claim) = crate::audit::splits::file_claim_on(claims, &run.run) {
+            return (
+                claim.verdict,
+                format!("{} (claim {})", claim.verdict.as_str(), claim.claim),
+            );
+        }
+    }
+    (run.verdict, run.verdict.as_str().to_string())
 }
 
 /// What a run carries besides its audit, in words: the `--keep` columns and the

@@ -438,3 +438,178 @@ fn paired_holdout_needed_is_the_smallest_certifying_size() {
         assert_eq!(got["holdout_needed"].as_u64(), smallest, "{id}");
     }
 }
+
+/// Runs `audit <log> --claims <claims>... <extra>` in a folder holding `files`.
+fn audit_in(files: &[(&str, &str)], args: &[&str]) -> Output {
+    let dir = tempfile::tempdir().unwrap();
+    for (name, text) in files {
+        std::fs::write(dir.path().join(name), text).unwrap();
+    }
+    gapcert_in(dir.path(), args)
+}
+
+/// The codes of a claim's findings in a JSON document.
+fn claim_codes(doc: &Value, id: &str) -> Vec<String> {
+    claim(&claims_of(doc), id)["findings"]
+        .as_array()
+        .map(|findings| {
+            findings
+                .iter()
+                .map(|f| f["code"].as_str().unwrap().to_string())
+                .collect()
+        })
+        .unwrap_or_default()
+}
+
+/// Issue 23, item 3: the slips a log column's claim is guarded against (an error rate
+/// written as an accuracy, a claim below one half, an accuracy written as an error)
+/// get the same findings in a claims file, and fail the gate unless allowed.
+#[test]
+fn claims_file_slips_get_the_log_claims_findings_and_fail_the_gate() {
+    let claims = "claim,kind,run,value\n\
+err-as-acc,accuracy,a,0.04\n\
+low,accuracy,b,0.3\n\
+acc-as-err,error,c,0.96\n";
+    let files = [("log.csv", LOG), ("claims.csv", claims)];
+    let args = [
+        "audit",
+        "log.csv",
+        "--claims",
+        "claims.csv",
+        "--format",
+        "json",
+    ];
+    let output = audit_in(&files, &args);
+    assert_eq!(output.status.code(), Some(1), "{}", stderr(&output));
+    let doc: Value = serde_json::from_slice(&output.stdout).unwrap();
+    for id in ["err-as-acc", "low", "acc-as-err"] {
+        assert_eq!(claim(&claims_of(&doc), id)["verdict"], "certified", "{id}");
+    }
+    assert_eq!(
+        claim_codes(&doc, "err-as-acc"),
+        ["claim_looks_like_error_rate"]
+    );
+    assert_eq!(claim_codes(&doc, "low"), ["claim_below_half"]);
+    assert_eq!(
+        claim_codes(&doc, "acc-as-err"),
+        ["claim_looks_like_accuracy"]
+    );
+    assert_eq!(doc["summary"]["claim_gate_findings"], 3);
+    assert_eq!(doc["summary"]["gate"], "fail");
+    // Allowed, the claims pass on their verdicts.
+    let mut allowed = args.to_vec();
+    allowed.extend([
+        "--gate-allow",
+        "claim_looks_like_error_rate,claim_below_half,claim_looks_like_accuracy",
+    ]);
+    let output = audit_in(&files, &allowed);
+    assert_eq!(output.status.code(), Some(0), "{}", stderr(&output));
+    // A plausible claim gets no finding.
+    let fine = "claim,kind,run,value\nfine,accuracy,a,0.9\n";
+    let output = audit_in(&[("log.csv", LOG), ("claims.csv", fine)], &args);
+    assert_eq!(output.status.code(), Some(0), "{}", stderr(&output));
+    let doc: Value = serde_json::from_slice(&output.stdout).unwrap();
+    assert!(claim_codes(&doc, "fine").is_empty());
+}
+
+/// Issue 23, item 3: under `--percent`, a claims file whose values all lie in
+/// [0, 1] holds fractions: an input error naming the file, as for a log.
+#[test]
+fn percent_on_a_claims_file_of_fractions_is_an_input_error() {
+    let log = "run,holdout_n,holdout_error_rate\na,1000,4\nb,1000,6\n";
+    let fractions = "claim,kind,run,value\nc1,accuracy,a,0.9\n";
+    let output = audit_in(
+        &[("log.csv", log), ("claims.csv", fractions)],
+        &["audit", "log.csv", "--claims", "claims.csv", "--percent"],
+    );
+    assert_eq!(output.status.code(), Some(2), "{}", stdout(&output));
+    let err = stderr(&output);
+    assert!(
+        err.contains("claims.csv: every value in this claims file lies within [0, 1]"),
+        "{err}"
+    );
+    // Percentages are read as such.
+    let percentages = "claim,kind,run,value\nc1,accuracy,a,90\n";
+    let output = audit_in(
+        &[("log.csv", log), ("claims.csv", percentages)],
+        &["audit", "log.csv", "--claims", "claims.csv", "--percent"],
+    );
+    assert_eq!(output.status.code(), Some(0), "{}", stderr(&output));
+}
+
+/// Issue 23, item 10: the messages of claims-file problems: no `--lenient` advice
+/// (it never skips a claim), a file given twice named as such, a "did you mean" for
+/// a run's typo, problems in row order, and an unpaired comparison across splits that
+/// says the runs were scored on different data.
+#[test]
+fn claims_file_problems_say_what_to_do_in_row_order() {
+    let claims = "claim,kind,run,baseline,value\n\
+x,accuracy,b,,0.9\n\
+y,accuracy,aa,,0.9\n\
+z,accuracy,b,,1.5\n";
+    let (code, err) = bad_claims(claims);
+    assert_eq!(code, Some(2));
+    assert!(
+        err.contains("run `aa` matches no run in the logs (did you mean `a`?)"),
+        "{err}"
+    );
+    let (second, third) = (
+        err.find("claims.csv:2:").expect("row 2 named"),
+        err.find("claims.csv:3:").expect("row 3 named"),
+    );
+    assert!(second < third, "problems out of row order: {err}");
+    assert!(!err.contains("pass --lenient to skip"), "{err}");
+    assert!(
+        err.contains("--lenient skips bad log rows, never a claim"),
+        "{err}"
+    );
+
+    // The same claims file given twice.
+    let dir = tempfile::tempdir().unwrap();
+    std::fs::write(dir.path().join("log.csv"), LOG).unwrap();
+    std::fs::write(
+        dir.path().join("a.csv"),
+        "claim,kind,run,value\nx,accuracy,a,0.9\n",
+    )
+    .unwrap();
+    let output = gapcert_in(
+        dir.path(),
+        &["audit", "log.csv", "--claims", "a.csv", "--claims", "a.csv"],
+    );
+    assert_eq!(output.status.code(), Some(2));
+    let err = stderr(&output);
+    assert!(
+        err.contains("a.csv: this claims file is given more than once"),
+        "{err}"
+    );
+    assert!(!err.contains("is also used by a.csv:1"), "{err}");
+
+    // An unpaired comparison of runs on two splits.
+    let dir = tempfile::tempdir().unwrap();
+    std::fs::write(dir.path().join("log.csv"), LOG).unwrap();
+    std::fs::write(
+        dir.path().join("claims.csv"),
+        "claim,kind,run,baseline,value\ncross,beats,c,a,0\n",
+    )
+    .unwrap();
+    let output = gapcert_in(
+        dir.path(),
+        &[
+            "audit",
+            "log.csv",
+            "--claims",
+            "claims.csv",
+            "--format",
+            "json",
+        ],
+    );
+    let doc: Value = serde_json::from_slice(&output.stdout).unwrap();
+    let evidence = claim(&claims_of(&doc), "cross")["evidence"]
+        .as_str()
+        .unwrap()
+        .to_string();
+    assert!(
+        evidence.contains("the runs were scored on different held-out data: split `s2`, 2,000 examples and split `s1`, 1,000 examples"),
+        "{evidence}"
+    );
+}

@@ -557,3 +557,67 @@ fn values_and_messages_agree_and_family_typos_get_a_suggestion() {
     let output = gapcert(&["plan", "train", "--family", "gbm"]);
     assert!(stderr(&output).contains("family `gbm` has no known growth bound"));
 }
+
+/// Issue 23, item 4: under `--lenient`, a bad row that carries a claim (its own, or
+/// `--claim-accuracy`'s) fails the gate, and every format names it; a bad row without
+/// a claim is skipped as before.
+#[test]
+fn a_skipped_row_with_a_claim_fails_the_gate_in_every_format() {
+    let dir = tempfile::tempdir().unwrap();
+    write(
+        dir.path(),
+        "runs.csv",
+        "run,holdout_n,holdout_error_rate,claimed_accuracy\n\
+good,1000,0.01,0.95\n\
+bad,1000,1.5,0.99\n",
+    );
+    write(
+        dir.path(),
+        "unclaimed.csv",
+        "run,holdout_n,holdout_error_rate\nfine,1000,0.01\nbroken,1000,1.5\n",
+    );
+    let json = gapcert_in(
+        dir.path(),
+        &["audit", "runs.csv", "--lenient", "--format", "json"],
+        &[],
+    );
+    assert_eq!(json.status.code(), Some(1), "{}", stderr(&json));
+    let doc: Value = serde_json::from_slice(&json.stdout).unwrap();
+    assert_eq!(doc["summary"]["gate"], "fail");
+    assert_eq!(doc["summary"]["claims_skipped"], 1);
+    assert_eq!(doc["skipped_rows"][0]["source"], "runs.csv:2");
+    assert_eq!(doc["skipped_rows"][0]["carries_claim"], true);
+    for format in ["table", "markdown"] {
+        let output = gapcert_in(
+            dir.path(),
+            &["audit", "runs.csv", "--lenient", "--format", format],
+            &[],
+        );
+        assert_eq!(output.status.code(), Some(1), "{format}");
+        let text = stdout(&output);
+        assert!(
+            text.contains("carried a claim that could not be audited"),
+            "{format}: {text}"
+        );
+        assert!(text.contains("runs.csv:2"), "{format}: {text}");
+    }
+    // Without a claim in the row the gate passes; with --claim-accuracy it fails.
+    let output = gapcert_in(dir.path(), &["audit", "unclaimed.csv", "--lenient"], &[]);
+    assert_eq!(output.status.code(), Some(0), "{}", stdout(&output));
+    let output = gapcert_in(
+        dir.path(),
+        &[
+            "audit",
+            "unclaimed.csv",
+            "--lenient",
+            "--claim-accuracy",
+            "0.9",
+            "--format",
+            "json",
+        ],
+        &[],
+    );
+    assert_eq!(output.status.code(), Some(1), "{}", stderr(&output));
+    let doc: Value = serde_json::from_slice(&output.stdout).unwrap();
+    assert_eq!(doc["skipped_rows"][0]["carries_claim"], true);
+}

@@ -353,3 +353,135 @@ fn the_wear_charts_legend_covers_neither_the_curve_nor_the_history() {
         );
     }
 }
+
+/// Runs `gapcert audit` in a folder holding `files`; returns the exit code and the
+/// JSON document.
+fn audit_files(files: &[(&str, &str)], args: &[&str]) -> (Option<i32>, Value, String) {
+    let dir = tempfile::tempdir().unwrap();
+    for (name, text) in files {
+        std::fs::write(dir.path().join(name), text).unwrap();
+    }
+    let output = std::process::Command::new(crate::common::binary())
+        .args(args)
+        .current_dir(dir.path())
+        .env("NO_COLOR", "1")
+        .output()
+        .unwrap();
+    let doc = serde_json::from_slice(&output.stdout).unwrap_or(Value::Null);
+    (
+        output.status.code(),
+        doc,
+        String::from_utf8_lossy(&output.stdout).to_string()
+            + &String::from_utf8_lossy(&output.stderr),
+    )
+}
+
+/// Invented runs on one split; the best is `r2` (50 errors in 2,000).
+const WEAR_LOG: &str = "run,holdout_n,holdout_misclassified,holdout_set,logged_at\n\
+r1,2000,60,leaf-val-v3,2026-01-01\n\
+r2,2000,50,leaf-val-v3,2026-01-02\n\
+r3,2000,70,leaf-val-v3,\n";
+
+/// Issue 23, item 7: a claims file's claim on the split's best run counts as its
+/// claim (SPEC §11): comparisons_left is K_max − K for it, and the run table's
+/// verdict column names the claim.
+#[test]
+fn claims_file_claims_on_the_best_run_set_comparisons_left() {
+    let claims = "claim,kind,run,value\nrelease,accuracy,r2,0.96\n";
+    let args = [
+        "audit",
+        "log.csv",
+        "--claims",
+        "claims.csv",
+        "--format",
+        "json",
+    ];
+    let (code, doc, all) = audit_files(&[("log.csv", WEAR_LOG), ("claims.csv", claims)], &args);
+    assert_eq!(code, Some(0), "{all}");
+    let split = &doc["splits"][0];
+    assert_eq!(split["best_run"], "r2");
+    assert_eq!(split["claim"], "release");
+    let most = max_candidates_binomial(50, 2000, 0.04, 0.05).expect("certified at K = 1");
+    assert_eq!(
+        split["comparisons_left"].as_u64(),
+        Some(most - 3),
+        "{split}"
+    );
+    // The table names the claim in the run's verdict column.
+    let (_, _, table) = audit_files(
+        &[("log.csv", WEAR_LOG), ("claims.csv", claims)],
+        &["audit", "log.csv", "--claims", "claims.csv"],
+    );
+    assert!(table.contains("certified (claim release)"), "{table}");
+    // Without the claims file there is no claim.
+    let (_, doc, _) = audit_files(
+        &[("log.csv", WEAR_LOG)],
+        &["audit", "log.csv", "--format", "json"],
+    );
+    assert!(doc["splits"][0]["comparisons_left"].is_null());
+}
+
+/// Issue 23, item 8: split names differing only in case get a finding that names
+/// both spellings (in the split entries and as the runs' code) and fails the gate
+/// unless allowed.
+#[test]
+fn split_names_differing_in_case_fail_the_gate_unless_allowed() {
+    let log = "run,holdout_n,holdout_misclassified,holdout_set,claimed_accuracy\n\
+a,2000,50,leaf-val-v3,0.9\n\
+b,2000,60,leaf-val-V3,0.9\n\
+c,2000,60,other,0.9\n";
+    let args = ["audit", "log.csv", "--format", "json"];
+    let (code, doc, all) = audit_files(&[("log.csv", log)], &args);
+    assert_eq!(code, Some(1), "{all}");
+    for run in doc["runs"].as_array().unwrap() {
+        let codes: Vec<&str> = run["findings"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .map(|f| f["code"].as_str().unwrap())
+            .collect();
+        assert_eq!(
+            codes.contains(&"split_names_differ_in_case"),
+            run["run"] != "c",
+            "{run}"
+        );
+    }
+    for split in doc["splits"].as_array().unwrap() {
+        if split["split"] == "other" {
+            assert!(split.get("spellings").is_none());
+        } else {
+            assert_eq!(
+                split["spellings"],
+                serde_json::json!(["leaf-val-V3", "leaf-val-v3"])
+            );
+        }
+    }
+    let mut allowed = args.to_vec();
+    allowed.extend(["--gate-allow", "split_names_differ_in_case"]);
+    let (code, _, all) = audit_files(&[("log.csv", log)], &allowed);
+    assert_eq!(code, Some(0), "{all}");
+    let (_, _, table) = audit_files(&[("log.csv", log)], &["audit", "log.csv"]);
+    assert!(
+        table.contains("split `leaf-val-V3` is also spelled `leaf-val-v3`"),
+        "{table}"
+    );
+}
+
+/// Issue 23, item 10: a wear history that stops short of K because some runs lack
+/// `logged_at` says so.
+#[test]
+fn a_short_wear_history_says_why() {
+    let (_, _, table) = audit_files(&[("log.csv", WEAR_LOG)], &["audit", "log.csv"]);
+    assert!(
+        table.contains("the wear history covers 2 of its 3 runs (1 lack logged_at), so it stops short of K = 3"),
+        "{table}"
+    );
+    let (_, _, markdown) = audit_files(
+        &[("log.csv", WEAR_LOG)],
+        &["audit", "log.csv", "--format", "markdown"],
+    );
+    assert!(
+        markdown.contains("the wear history covers 2 of its 3 runs"),
+        "{markdown}"
+    );
+}
