@@ -93,6 +93,9 @@ pub struct PreparedAudit<'a> {
     claims: ClaimsRead,
     /// The claims decided, once [`PreparedAudit::check`] has run.
     claim_results: Option<Vec<ClaimResult>>,
+    /// Whether the second pass builds the split entries (see
+    /// [`PreparedAudit::without_splits`]).
+    splits: bool,
 }
 
 /// What one log's first pass produced.
@@ -370,6 +373,7 @@ fn first_pass<'a>(
         notes: collected.notes,
         claims: ClaimsRead::default(),
         claim_results: None,
+        splits: true,
     })
 }
 
@@ -470,6 +474,15 @@ struct Finished {
 }
 
 impl PreparedAudit<'_> {
+    /// The second pass leaves the split entries out (the document's `splits` is
+    /// empty): a stream of JSON lines or CSV writes none, and following every run
+    /// of a split through its wear history costs the serial counting stage a few
+    /// allocations per run.
+    pub fn without_splits(mut self) -> Self {
+        self.splits = false;
+        self
+    }
+
     /// Runs that will be audited.
     pub fn runs(&self) -> usize {
         self.runs
@@ -757,6 +770,7 @@ impl PreparedAudit<'_> {
             limits,
             file_copies,
             stream_copies,
+            splits: with_splits,
             ..
         } = self;
         let cancel = settings.cancel.clone();
@@ -798,7 +812,9 @@ impl PreparedAudit<'_> {
                 for results in results_in {
                     for result in &results {
                         summary.count(result, &audit_settings.gate_allow);
-                        splits.observe(result);
+                        if with_splits {
+                            splits.observe(result);
+                        }
                     }
                     if done_out.send(transform(results)).is_err() {
                         break;

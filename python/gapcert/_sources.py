@@ -15,6 +15,8 @@ from typing import Any, Dict, List, Optional, Tuple
 
 import polars as pl
 
+from ._errors import InputError
+
 # ("path", path, None) or ("frame", label, Arrow IPC bytes)
 Entry = Tuple[str, str, Optional[bytes]]
 
@@ -92,6 +94,56 @@ def _readable(frame: pl.DataFrame) -> pl.DataFrame:
     return frame.cast(casts) if casts else frame
 
 
+def _check_pandas(frame: Any, label: str) -> None:
+    """Raises :class:`InputError` listing every problem that keeps a pandas frame
+    from becoming a table: column names that repeat, and object columns whose cells
+    mix types (which pyarrow would refuse with a message naming neither)."""
+    problems: List[Dict[str, Any]] = []
+    names = [str(name) for name in frame.columns]
+    seen: Dict[str, int] = {}
+    for name in names:
+        seen[name] = seen.get(name, 0) + 1
+    for name, times in seen.items():
+        if times > 1:
+            problems.append(
+                {
+                    "file": label,
+                    "row": None,
+                    "column": name,
+                    "message": f"the column name `{name}` appears {times} times; give each column its own name",
+                }
+            )
+    if not problems:
+        for name in names:
+            column = frame[name]
+            if str(column.dtype) != "object":
+                continue
+            kinds = []
+            first_row: Dict[str, int] = {}
+            for row, value in enumerate(column.tolist(), start=1):
+                if value is None or (isinstance(value, float) and value != value):
+                    continue
+                kind = type(value).__name__
+                if kind not in first_row:
+                    first_row[kind] = row
+                    kinds.append(kind)
+            if len(kinds) > 1:
+                rows = ", ".join(f"{kind} from row {first_row[kind]}" for kind in kinds)
+                problems.append(
+                    {
+                        "file": label,
+                        "row": first_row[kinds[1]],
+                        "column": name,
+                        "message": f"`{name}` mixes types ({rows}); make the column one type (for example df[{name!r}].astype(str), or pandas.to_numeric)",
+                    }
+                )
+    if problems:
+        lines = [
+            f"{p['file']}{':' + str(p['row']) if p['row'] else ''}: {p['message']}" for p in problems
+        ]
+        raise InputError("\n".join(lines), problems)
+
+
 def ipc_bytes(frame: pl.DataFrame) -> bytes:
     """``frame`` as Arrow IPC file bytes (uncompressed)."""
     buffer = io.BytesIO()
@@ -110,10 +162,14 @@ def entries(value: Any, what: str, frame_label: str) -> List[Entry]:
     if not items:
         raise ValueError(f"{what}: an empty list (give at least one path or frame)")
     frames: List[Optional[pl.DataFrame]] = []
+    count = sum(not _is_path(item) for item in items)
     for item in items:
         if _is_path(item):
             frames.append(None)
             continue
+        if _is_pandas(item):
+            label = frame_label if count == 1 else f"{frame_label}{len(frames) + 1}"
+            _check_pandas(item, label)
         frame = as_polars(item)
         if frame is None:
             raise TypeError(f"{what}: {type(item).__name__} is not accepted; give {_ACCEPTED}")

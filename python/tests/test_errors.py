@@ -135,3 +135,21 @@ def test_writing_into_a_missing_folder_is_an_os_error(tmp_path):
     with pytest.raises(OSError) as raised:
         report.write_html(tmp_path / "missing" / "audit.html")
     assert "nothing was written there" in str(raised.value)
+
+
+def test_a_pandas_frame_that_cannot_become_a_table_is_an_input_error():
+    """Repeated column names and an object column mixing types are input errors
+    naming the frame and the column, not raw pyarrow or polars errors."""
+    pd = pytest.importorskip("pandas")
+    repeated = pd.DataFrame([[100, 3, 5]], columns=["holdout_n", "holdout_misclassified", "holdout_n"])
+    with pytest.raises(gapcert.InputError) as raised:
+        gapcert.audit(repeated)
+    [problem] = raised.value.problems
+    assert problem["file"] == "frame" and problem["column"] == "holdout_n"
+    assert "appears 2 times" in problem["message"]
+    mixed = pd.DataFrame({"run": ["a", "b", "c"], "holdout_n": [100, "x", 200], "holdout_misclassified": [1, 2, 3]})
+    with pytest.raises(gapcert.InputError) as raised:
+        gapcert.audit(mixed)
+    [problem] = raised.value.problems
+    assert problem["column"] == "holdout_n" and problem["row"] == 2
+    assert "mixes types (int from row 1, str from row 2)" in problem["message"]

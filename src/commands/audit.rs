@@ -375,6 +375,7 @@ fn stream_runs(
         };
         doc = Some(
             prepared
+                .without_splits()
                 .stream(&request.audit, explain, &format_batch, &mut sink)
                 .map_err(io::Error::other)?,
         );
