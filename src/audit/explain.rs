@@ -200,11 +200,12 @@ pub fn finding_message(run: &RunResult, code: FindingCode, settings: &AuditSetti
             );
         }
         FindingCode::SplitSizeMismatch => {
+            // Said in full once, in the split's entry; each run only points there.
             let _ = write!(
                 text,
-                "other runs of the held-out split `{}` log a different number of examples than this run's {}: runs of one split should share one set of examples, so the split's name may be reused for different sets, and K may count runs that were not compared",
+                "other runs of the held-out split `{}` log another size than this run's {} (see the split)",
                 run.holdout_set.as_deref().unwrap_or(""),
-                run.holdout_n
+                group_thousands(run.holdout_n)
             );
         }
         FindingCode::SplitNamesDifferInCase => {

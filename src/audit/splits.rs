@@ -20,6 +20,7 @@
 use serde::{Deserialize, Serialize};
 
 use super::claims::ClaimResult;
+use super::finding::{Finding, FindingCode};
 use super::per_run::one_sided_bounds;
 use super::result::RunResult;
 use super::settings::{AuditSettings, HoldoutBound};
@@ -62,6 +63,10 @@ pub struct SplitEntry {
     pub comparisons_left: Option<u64>,
     /// Runs of the split log different held-out sizes (finding `split_size_mismatch`).
     pub size_mismatch: bool,
+    /// What is said once about the split as a whole (`split_size_mismatch`, with the
+    /// sizes its runs log); its runs carry the code and a short pointer here.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub findings: Vec<Finding>,
     /// The claim of a claims file `claim_error_rate` and `comparisons_left` come from,
     /// when the best run has no claim of its own.
     #[serde(default, skip_serializing_if = "Option::is_none")]
@@ -330,6 +335,7 @@ pub fn max_candidates(
 }
 
 fn entry(state: SplitState, settings: &AuditSettings, delta: f64) -> SplitEntry {
+    let findings = size_findings(&state);
     let bound = settings.holdout_bound;
     let best = &state.best;
     let compared = state.compared.max(state.runs).max(1);
@@ -381,6 +387,7 @@ fn entry(state: SplitState, settings: &AuditSettings, delta: f64) -> SplitEntry 
         reuse_cost: certifiable_fresh - certifiable_now,
         comparisons_left,
         size_mismatch: state.smallest_n != state.largest_n,
+        findings,
         spellings: Vec::new(),
         claim: None,
         delta,
@@ -388,6 +395,22 @@ fn entry(state: SplitState, settings: &AuditSettings, delta: f64) -> SplitEntry 
         history,
         split: state.split,
     }
+}
+
+/// The split's `split_size_mismatch`, said once: the sizes its runs log.
+fn size_findings(state: &SplitState) -> Vec<Finding> {
+    if state.smallest_n == state.largest_n {
+        return Vec::new();
+    }
+    vec![Finding {
+        code: FindingCode::SplitSizeMismatch,
+        message: format!(
+            "runs of the held-out split `{}` log between {} and {} held-out examples: runs of one split should share one set of examples, so the split's name may be reused for different sets, and K may count runs that were not compared",
+            state.split,
+            crate::decimal::group_thousands(state.smallest_n),
+            crate::decimal::group_thousands(state.largest_n)
+        ),
+    }]
 }
 
 impl SplitEntry {

@@ -28,10 +28,15 @@ fn left_text(entry: &SplitEntry) -> String {
     }
 }
 
-/// What a reader should know about a split beyond its numbers: another spelling of
-/// its name, a wear history that covers fewer runs than K counts.
+/// What a reader should know about a split beyond its numbers: its findings (runs
+/// of other sizes), another spelling of its name, a wear history that covers fewer
+/// runs than K counts.
 pub fn split_notes(entry: &SplitEntry) -> Vec<String> {
-    let mut notes = Vec::new();
+    let mut notes: Vec<String> = entry
+        .findings
+        .iter()
+        .map(|finding| format!("{} ({})", finding.message, finding.code.as_str()))
+        .collect();
     if !entry.spellings.is_empty() {
         let others: Vec<String> = entry
             .spellings

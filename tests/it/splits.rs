@@ -10,7 +10,7 @@ use gapcert::audit::{AuditSettings, HoldoutBound};
 use gapcert::ingest::{IngestSettings, LogFormat, LogSource};
 use gapcert::theory::reuse::{max_candidates_binomial, max_candidates_hoeffding};
 
-use crate::common::{gapcert, gapcert_json, root, stdout};
+use crate::common::{gapcert, gapcert_json, group, root, stdout};
 
 fn reference() -> Vec<Vec<String>> {
     let text = std::fs::read_to_string(root().join("fixtures/reference/reuse.csv")).unwrap();
@@ -122,17 +122,40 @@ even,900,40,t,2024-01-02\n";
         .all(|w| w[1].certifiable_accuracy <= w[0].certifiable_accuracy));
     let t = &doc.splits[1];
     assert!(t.size_mismatch && !s.size_mismatch);
+    // The split's fact is said once, in its entry, with the sizes; its runs carry
+    // the code and a short pointer (SPEC §7).
+    assert!(s.findings.is_empty());
+    let [said] = t.findings.as_slice() else {
+        panic!("one finding on split t: {:?}", t.findings)
+    };
+    assert_eq!(said.code.as_str(), "split_size_mismatch");
+    let sizes: Vec<u64> = doc
+        .runs
+        .iter()
+        .filter(|r| r.holdout_set.as_deref() == Some("t"))
+        .map(|r| r.holdout_n)
+        .collect();
+    let (low, high) = (sizes.iter().min().unwrap(), sizes.iter().max().unwrap());
+    assert!(
+        said.message
+            .contains(&format!("between {} and {}", group(*low), group(*high))),
+        "{}",
+        said.message
+    );
     for run in doc
         .runs
         .iter()
         .filter(|r| r.holdout_set.as_deref() == Some("t"))
     {
+        let finding = run
+            .findings
+            .iter()
+            .find(|f| f.code.as_str() == "split_size_mismatch")
+            .unwrap_or_else(|| panic!("{}", run.run));
         assert!(
-            run.findings
-                .iter()
-                .any(|f| f.code.as_str() == "split_size_mismatch"),
+            finding.message.len() < 120 && finding.message.contains("(see the split)"),
             "{}",
-            run.run
+            finding.message
         );
     }
 }
