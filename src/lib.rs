@@ -27,12 +27,12 @@
 //! assert!(gapcert::theory::binomial::upper_bound(12, 2000, 0.05) > 0.005);
 //! ```
 
-pub mod api;
+pub(crate) mod api;
 pub mod audit;
 pub mod calculators;
 pub mod certificate;
-pub mod claim;
-pub mod decimal;
+pub(crate) mod claim;
+pub(crate) mod decimal;
 pub mod demo;
 pub mod engine;
 pub mod error;
@@ -43,7 +43,7 @@ pub mod options;
 pub mod outputs;
 pub mod report;
 pub mod run;
-pub mod suggest;
+pub(crate) mod suggest;
 pub mod theory;
 pub mod timing;
 

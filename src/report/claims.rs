@@ -10,7 +10,6 @@ use super::flat::text_cell;
 use super::format::OutputFormat;
 use super::text::{group_thousands, printable, wrap};
 use crate::audit::claims::ClaimResult;
-use crate::audit::Verdict;
 use crate::decimal::push_percent;
 
 pub use super::own_outputs::CLAIM_COLUMNS;
@@ -223,14 +222,4 @@ pub fn write_claims_markdown(claims: &[ClaimResult], out: &mut dyn Write) -> io:
         )?;
     }
     writeln!(out)
-}
-
-/// Whether a claim's verdict fails the gate `gate` (for the JUnit report and the
-/// HTML badges).
-pub fn fails_gate(verdict: Verdict, gate: crate::audit::Gate) -> bool {
-    match gate {
-        crate::audit::Gate::Unproven => verdict != Verdict::Certified,
-        crate::audit::Gate::Refuted => verdict == Verdict::Refuted,
-        crate::audit::Gate::Never => false,
-    }
 }

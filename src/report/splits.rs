@@ -259,13 +259,3 @@ pub fn splits_frame(
     ];
     DataFrame::new(splits.len(), columns)
 }
-
-/// A DataFrame as Arrow IPC file bytes (what a Python caller reads back without loss).
-pub fn ipc_bytes(frame: &mut polars::prelude::DataFrame) -> std::io::Result<Vec<u8>> {
-    use polars::prelude::*;
-    let mut bytes = Vec::new();
-    IpcWriter::new(&mut bytes)
-        .finish(frame)
-        .map_err(std::io::Error::other)?;
-    Ok(bytes)
-}
