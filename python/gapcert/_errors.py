@@ -93,7 +93,9 @@ def _from_core(kind: str, message: str, problems: Optional[List[Dict[str, Any]]]
         ]
         lines = [_problem_line(problem) for problem in problems]
         lines.append(
-            f"{len(problems)} problem(s) found; fix them or pass lenient=True to skip bad rows"
+            _pythonic(message)
+            if message
+            else f"{len(problems)} problem(s) found; fix them or pass lenient=True to skip bad rows"
         )
         return InputError("\n".join(lines), problems)
     if kind == "io":

@@ -19,7 +19,12 @@ pub fn to_pyerr(py: Python<'_>, error: Error) -> PyErr {
         Error::Usage(message) => ("usage", message.clone(), None),
         Error::Io(message) => ("io", message.clone(), None),
         Error::Interrupted => ("interrupted", error.to_string(), None),
-        Error::Input(problems) => ("input", String::new(), Some(problems.as_slice())),
+        // The closing line the command line prints under the problems (what to do).
+        Error::Input(problems) => (
+            "input",
+            error.to_string().lines().last().unwrap_or_default().to_string(),
+            Some(problems.as_slice()),
+        ),
     };
     match python_exception(py, kind, &message, problems) {
         Ok(exception) => exception,
