@@ -509,6 +509,35 @@ fn a_json_lines_file_of_one_broken_record_names_the_json_error() {
     assert!(!err.contains("missing"), "{err}");
 }
 
+#[test]
+fn decimal_columns_are_named_with_their_type() {
+    // Written by pyarrow 26 (decimal128 columns): one unused, one holding the claims.
+    for (file, column, kind) in [
+        ("decimal-unused.parquet", "cost_usd", "decimal(10, 2)"),
+        ("decimal-unused.arrow", "cost_usd", "decimal128(10, 2)"),
+        (
+            "decimal-accuracy.parquet",
+            "claimed_accuracy",
+            "decimal(4, 2)",
+        ),
+        (
+            "decimal-accuracy.arrow",
+            "claimed_accuracy",
+            "decimal128(4, 2)",
+        ),
+    ] {
+        let path = root().join("fixtures/hostile").join(file);
+        let output = run_in(&root(), &["audit", path.to_str().unwrap()]);
+        let err = text(&output.stderr);
+        assert_eq!(output.status.code(), Some(2), "{err}");
+        assert!(
+            err.contains(&format!("`{column}` ({kind})")),
+            "{file}: {err}"
+        );
+        assert!(!err.contains("malformed"), "{file}: {err}");
+    }
+}
+
 // ---------------------------------------------------------------------------------
 // Item 5: integers beyond 2^53 in JSON lines.
 
