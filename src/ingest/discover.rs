@@ -220,7 +220,7 @@ fn walk(
     for (child, file_type, inode) in children {
         // Symbolic links (and entries whose kind the listing did not give) are
         // followed with a stat; everything else is known from the listing.
-        let is_link = file_type.is_none_or(|kind| kind.is_symlink());
+        let is_link = !matches!(file_type, Some(kind) if !kind.is_symlink());
         let (is_dir, is_file, identity) = match file_type {
             Some(kind) if kind.is_dir() => (true, false, None),
             Some(kind) if kind.is_file() => (
