@@ -174,6 +174,22 @@ fn claims_of_table(
     if ambiguous {
         return;
     }
+    // A malformed Parquet or Arrow file can decode into a column shorter than the
+    // table (found by fuzzing: fuzz/regressions/claims-short-column.parquet).
+    for column in df.columns() {
+        if column.len() != df.height() {
+            problems.push(Problem::file(
+                label,
+                format!(
+                    "the file is malformed: column {} holds {} values but the table has {} rows",
+                    column.name(),
+                    column.len(),
+                    df.height()
+                ),
+            ));
+            return;
+        }
+    }
     for required in ["kind", "run", "value"] {
         if index(required).is_none() {
             problems.push(Problem::file(
