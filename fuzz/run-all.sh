@@ -14,7 +14,7 @@ run() {
     -artifact_prefix="artifacts/$target/" -print_final_stats=1 > "logs/$target.log" 2>&1
   echo "$target: exit $? — $(grep -E '^stat::number_of_executed_units' "logs/$target.log" | awk '{print $2}') executions, $(ls "artifacts/$target" | wc -l) artifact(s)"
 }
-targets=(ingest_csv ingest_jsonl ingest_json ingest_parquet ingest_arrow column_map)
+targets=(ingest_csv ingest_jsonl ingest_json ingest_parquet ingest_arrow column_map claims certificate)
 for ((i = 0; i < ${#targets[@]}; i += 2)); do
   run "${targets[i]}" &
   [ -n "${targets[i+1]:-}" ] && run "${targets[i+1]}" &

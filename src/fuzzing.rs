@@ -6,16 +6,67 @@ use crate::audit::AuditSettings;
 use crate::ingest::{IngestSettings, LogFormat, LogSource};
 use crate::report::{self, OutputFormat};
 
-/// Reads `data` as a log of `format` (strictly, then leniently), audits it and renders
-/// it in every format into memory.
-pub fn exercise(data: &[u8], format: LogFormat) {
-    // libFuzzer's hook aborts on any panic, even one the readers catch; use gapcert's
-    // own (an uncaught panic still reaches libFuzzer's catch_unwind and is a crash).
+/// libFuzzer's hook aborts on any panic, even one the readers catch; use gapcert's
+/// own (an uncaught panic still reaches libFuzzer's catch_unwind and is a crash).
+fn install_hook() {
     static HOOK: std::sync::Once = std::sync::Once::new();
     HOOK.call_once(|| {
         let _ = std::panic::take_hook();
         crate::ingest::formats::install_panic_hook();
     });
+}
+
+/// Reads `data` as a claims file. The first byte picks the format (and whether values
+/// are percentages and written with a decimal comma), the rest is the file.
+pub fn exercise_claims(data: &[u8]) {
+    install_hook();
+    let Some((&selector, body)) = data.split_first() else {
+        return;
+    };
+    let format = match selector % 6 {
+        0 => LogFormat::Csv,
+        1 => LogFormat::Tsv,
+        2 => LogFormat::JsonLines,
+        3 => LogFormat::Json,
+        4 => LogFormat::Parquet,
+        _ => LogFormat::Arrow,
+    };
+    let percent = selector & 0x40 != 0;
+    let delimited = crate::ingest::formats::Delimited {
+        separator: None,
+        decimal_comma: selector & 0x80 != 0,
+    };
+    let sources = [crate::ingest::claims::ClaimsSource::Memory(
+        "fuzz-claims",
+        body,
+        format,
+    )];
+    let _ = crate::ingest::claims::read_claims(&sources, percent, delimited);
+}
+
+/// Parses `data` as a certificate (the reader `verify` uses), without re-auditing
+/// the files it names. The reader takes a path, so the bytes go through a file.
+pub fn exercise_certificate(data: &[u8]) {
+    install_hook();
+    thread_local! {
+        static FILE: std::path::PathBuf = std::env::temp_dir().join(format!(
+            "gapcert-fuzz-certificate-{}.json",
+            std::process::id()
+        ));
+    }
+    FILE.with(|path| {
+        if std::fs::write(path, data).is_ok() {
+            if let Ok(certificate) = crate::certificate::read_certificate(path) {
+                let _ = serde_json::to_vec(&certificate);
+            }
+        }
+    });
+}
+
+/// Reads `data` as a log of `format` (strictly, then leniently), audits it and renders
+/// it in every format into memory.
+pub fn exercise(data: &[u8], format: LogFormat) {
+    install_hook();
     // Differential check: numeric columns typed by polars must read like text typed
     // by gapcert, wherever polars accepts every cell.
     if let Some(separator) = match format {

@@ -122,8 +122,14 @@ pub fn read_claims(
         }
     }
     // Claim identifiers name claims in every report: each names one.
+    // A hash of the identifiers seen so far (a scan of the earlier claims per claim
+    // took a minute for 100,000 claims).
+    let mut first_use: std::collections::HashMap<&str, usize> =
+        std::collections::HashMap::with_capacity(read.claims.len());
     for (index, claim) in read.claims.iter().enumerate() {
-        if let Some(first) = read.claims[..index].iter().find(|c| c.claim == claim.claim) {
+        let first_index = *first_use.entry(claim.claim.as_str()).or_insert(index);
+        if first_index != index {
+            let first = &read.claims[first_index];
             problems.push(Problem::cell(
                 &claim.file,
                 claim.row,
@@ -157,6 +163,48 @@ fn claims_of_table(
         .map(|n| n.trim().to_ascii_lowercase())
         .collect();
     let index = |column: &str| names.iter().position(|n| n == column);
+    // Two columns meaning one (`value`, `VALUE`): which one holds the claims cannot be
+    // told, so the file is refused, as a log with the same ambiguity is.
+    let mut ambiguous = false;
+    for column in CLAIM_COLUMNS {
+        let header = df.get_column_names();
+        let matching: Vec<String> = names
+            .iter()
+            .zip(header.iter())
+            .filter(|(name, _)| *name == column)
+            .map(|(_, original)| format!("`{}`", original.trim()))
+            .collect();
+        if matching.len() > 1 {
+            ambiguous = true;
+            problems.push(Problem::file(
+                label,
+                format!(
+                    "the columns {} {} match {column} (names are matched ignoring case): rename all but one",
+                    matching.join(" and "),
+                    if matching.len() == 2 { "both" } else { "all" }
+                ),
+            ));
+        }
+    }
+    if ambiguous {
+        return;
+    }
+    // A malformed Parquet or Arrow file can decode into a column shorter than the
+    // table (found by fuzzing: fuzz/regressions/claims-short-column.parquet).
+    for column in df.columns() {
+        if column.len() != df.height() {
+            problems.push(Problem::file(
+                label,
+                format!(
+                    "the file is malformed: column {} holds {} values but the table has {} rows",
+                    column.name(),
+                    column.len(),
+                    df.height()
+                ),
+            ));
+            return;
+        }
+    }
     for required in ["kind", "run", "value"] {
         if index(required).is_none() {
             problems.push(Problem::file(
@@ -217,9 +265,11 @@ fn claims_of_table(
     let run_only = counts("run_only_errors", &mut cell_problems);
     let baseline_only = counts("baseline_only_errors", &mut cell_problems);
     problems.extend(cell_problems.iter().cloned());
+    let rows_with_problems: std::collections::HashSet<usize> =
+        cell_problems.iter().filter_map(|p| p.row).collect();
     for row in 0..height {
         let number = row + 1;
-        if cell_problems.iter().any(|p| p.row == Some(number)) {
+        if rows_with_problems.contains(&number) {
             continue;
         }
         let mut found = Vec::new();

@@ -498,6 +498,68 @@ pub fn polars_message(error: &PolarsError) -> String {
         .to_string()
 }
 
+/// Longest line of a CSV or TSV file gapcert reads (1 MiB). polars' line splitter
+/// takes time quadratic in a line's length (a 64 MB line took 9 s, 2 GB never ended),
+/// and no run log writes a megabyte per run.
+pub const MAX_LINE_BYTES: usize = 1 << 20;
+
+/// Most problems listed per file by the checks before parsing: one is enough to
+/// refuse the file, a few show a pattern.
+const MAX_SHAPE_PROBLEMS: usize = 20;
+
+/// Problems found before a delimited file reaches polars: lines longer than
+/// [`MAX_LINE_BYTES`] (by line number: the header is line 1, data row `n` is line
+/// `n + 1` unless quoted cells span lines) and bytes that are not UTF-8 (by row and
+/// column).
+fn delimited_shape_problems(label: &str, bytes: &[u8], separator: u8) -> Vec<Problem> {
+    let mut problems = Vec::new();
+    let mut line_start = 0usize;
+    for (index, line) in bytes.split(|&byte| byte == b'\n').enumerate() {
+        let start = line_start;
+        line_start += line.len() + 1;
+        if problems.len() >= MAX_SHAPE_PROBLEMS {
+            break;
+        }
+        if line.len() > MAX_LINE_BYTES {
+            let words = format!(
+                "line {} is {} bytes long, more than the {MAX_LINE_BYTES} bytes gapcert reads in one line (is this a log of one run per line?)",
+                index + 1,
+                line.len()
+            );
+            problems.push(if index == 0 {
+                Problem::file(label, words)
+            } else {
+                Problem::row(label, index, words)
+            });
+            continue;
+        }
+        if let Err(error) = std::str::from_utf8(line) {
+            let at = error.valid_up_to();
+            let header = &bytes[..header_end(bytes)];
+            let header = String::from_utf8_lossy(header);
+            let field = line[..at].iter().filter(|&&byte| byte == separator).count();
+            let column = header
+                .trim_end_matches(['\r', '\n'])
+                .split(separator as char)
+                .nth(field)
+                .map(|name| name.trim().trim_matches('"').to_string());
+            let words = format!(
+                "byte 0x{:02x} (at byte {} of the file) is not UTF-8; save the file as UTF-8",
+                line[at],
+                start + at
+            );
+            problems.push(match (index, column) {
+                (0, _) => Problem::file(label, format!("the header: {words}")),
+                (row, Some(column)) => {
+                    Problem::cell(label, row, &column, format!("column `{column}`: {words}"))
+                }
+                (row, None) => Problem::row(label, row, words),
+            });
+        }
+    }
+    problems
+}
+
 /// Reads CSV or TSV.
 ///
 /// With `column_map` given, the columns gapcert reads as numbers are first parsed by
@@ -517,6 +579,10 @@ fn read_delimited(
     let bytes = strip_bom(bytes);
     if bytes.iter().all(|b| b.is_ascii_whitespace()) {
         return Err(vec![Problem::file(label, "the file is empty")]);
+    }
+    let problems = delimited_shape_problems(label, bytes, separator);
+    if !problems.is_empty() {
+        return Err(problems);
     }
     let parse_options = CsvParseOptions::default()
         .with_separator(separator)
@@ -725,10 +791,6 @@ struct FlatRecord {
 }
 
 impl FlatRecord {
-    fn get(&self, key: &str) -> Option<&Value> {
-        self.entries.iter().find(|(k, _)| k == key).map(|(_, v)| v)
-    }
-
     fn push(&mut self, key: String, value: Value) {
         if self.entries.iter().any(|(k, _)| *k == key) {
             if !self.repeated.contains(&key) {
@@ -835,8 +897,61 @@ impl<'de> serde::de::Visitor<'de> for Flatten<'_> {
 /// flattened, anything else kept to be reported), or another value.
 enum JsonTop {
     Object(FlatRecord),
-    Array(Vec<Option<FlatRecord>>),
+    Array(JsonTable),
     Other(&'static str),
+}
+
+/// JSON records gathered column by column as they are parsed: each record (a line,
+/// or an element of an array, which is read one element at a time) is flattened,
+/// moved into its columns and dropped, so memory holds the cells once rather than
+/// a map of key strings per record (a 1 GB array took 8.8 GB as records).
+#[derive(Default)]
+struct JsonTable {
+    names: Vec<String>,
+    positions: std::collections::HashMap<String, usize>,
+    /// One cell per record so far in every column (None: absent or not an object).
+    columns: Vec<Vec<Option<Value>>>,
+    rows: usize,
+    /// Record numbers (from 1) that were not objects.
+    not_objects: Vec<usize>,
+    /// Keys written twice, with their record number.
+    repeated: Vec<(usize, String)>,
+}
+
+impl JsonTable {
+    /// Appends one record (None: it was not an object, or not JSON).
+    fn push(&mut self, record: Option<FlatRecord>) {
+        self.rows += 1;
+        let Some(record) = record else {
+            return;
+        };
+        for key in record.repeated {
+            self.repeated.push((self.rows, key));
+        }
+        for (key, value) in record.entries {
+            let at = match self.positions.get(&key) {
+                Some(&at) => at,
+                None => {
+                    let at = self.names.len();
+                    self.positions.insert(key.clone(), at);
+                    self.names.push(key);
+                    self.columns.push(Vec::new());
+                    at
+                }
+            };
+            let column = &mut self.columns[at];
+            column.resize(self.rows - 1, None);
+            column.push(Some(value));
+        }
+    }
+
+    /// The columns, each with one cell per record.
+    fn finish(mut self) -> Self {
+        for column in &mut self.columns {
+            column.resize(self.rows, None);
+        }
+        self
+    }
 }
 
 struct TopVisitor;
@@ -861,11 +976,14 @@ impl<'de> serde::de::Visitor<'de> for TopVisitor {
     }
 
     fn visit_seq<A: serde::de::SeqAccess<'de>>(self, mut seq: A) -> Result<JsonTop, A::Error> {
-        let mut items = Vec::new();
+        let mut table = JsonTable::default();
         while let Some(item) = seq.next_element_seed(ItemSeed)? {
-            items.push(item);
+            if item.is_none() {
+                table.not_objects.push(table.rows + 1);
+            }
+            table.push(item);
         }
-        Ok(JsonTop::Array(items))
+        Ok(JsonTop::Array(table.finish()))
     }
 
     fn visit_bool<E>(self, _: bool) -> Result<JsonTop, E> {
@@ -978,24 +1096,18 @@ fn json_error_words(error: &serde_json::Error, text: &str) -> String {
 fn read_json_lines(label: &str, bytes: &[u8]) -> Result<(DataFrame, Vec<Problem>), Vec<Problem>> {
     let text = std::str::from_utf8(bytes)
         .map_err(|_| vec![Problem::file(label, "the file is not valid UTF-8")])?;
-    let mut records = Vec::new();
+    let mut table = JsonTable::default();
     let mut problems = Vec::new();
-    let mut record_number = 0usize;
+    let mut objects = 0usize;
     for line in text.lines() {
         if line.trim().is_empty() {
             continue;
         }
-        record_number += 1;
+        let record_number = table.rows + 1;
         match parse_top(line.as_bytes()) {
             Ok(JsonTop::Object(record)) => {
-                for key in &record.repeated {
-                    problems.push(Problem::row(
-                        label,
-                        record_number,
-                        format!("the key `{key}` is written twice in this record; keep one"),
-                    ));
-                }
-                records.push(Some(record));
+                objects += 1;
+                table.push(Some(record));
             }
             Ok(_) => {
                 problems.push(Problem::row(
@@ -1003,7 +1115,7 @@ fn read_json_lines(label: &str, bytes: &[u8]) -> Result<(DataFrame, Vec<Problem>
                     record_number,
                     "the line is JSON but not an object (one run per line expected)",
                 ));
-                records.push(None);
+                table.push(None);
             }
             Err(error) => {
                 problems.push(Problem::row(
@@ -1011,15 +1123,28 @@ fn read_json_lines(label: &str, bytes: &[u8]) -> Result<(DataFrame, Vec<Problem>
                     record_number,
                     json_error_words(&error, line),
                 ));
-                records.push(None);
+                table.push(None);
             }
         }
     }
-    if records.is_empty() {
+    if table.rows == 0 {
         return Err(vec![Problem::file(label, "the file holds no JSON records")]);
     }
-    let (df, mut cell_problems) = records_to_frame(&records);
-    problems.append(&mut cell_problems);
+    // No record is an object: their own problems say why, and no column can be
+    // looked for (it would only add "missing column" for every required one).
+    if objects == 0 {
+        return Err(problems);
+    }
+    let table = table.finish();
+    for (record, key) in &table.repeated {
+        problems.push(Problem::row(
+            label,
+            *record,
+            format!("the key `{key}` is written twice in this record; keep one"),
+        ));
+    }
+    problems.sort_by_key(|problem| problem.row);
+    let df = records_to_frame(table);
     Ok((df, problems))
 }
 
@@ -1056,22 +1181,22 @@ fn read_json_document(
         )]
     })?;
     let mut problems = Vec::new();
-    let records: Vec<Option<FlatRecord>> = match top {
-        JsonTop::Object(record) => vec![Some(record)],
-        JsonTop::Array(items) => items
-            .into_iter()
-            .enumerate()
-            .map(|(index, item)| {
-                if item.is_none() {
-                    problems.push(Problem::row(
-                        label,
-                        index + 1,
-                        "the array element is not an object (one run per element expected)",
-                    ));
-                }
-                item
-            })
-            .collect(),
+    let table = match top {
+        JsonTop::Object(record) => {
+            let mut table = JsonTable::default();
+            table.push(Some(record));
+            table.finish()
+        }
+        JsonTop::Array(table) => {
+            for &record in &table.not_objects {
+                problems.push(Problem::row(
+                    label,
+                    record,
+                    "the array element is not an object (one run per element expected)",
+                ));
+            }
+            table
+        }
         JsonTop::Other(kind) => {
             return Err(vec![Problem::file(
                 label,
@@ -1081,45 +1206,48 @@ fn read_json_document(
             )])
         }
     };
-    for (index, record) in records.iter().enumerate() {
-        for key in record.iter().flat_map(|r| &r.repeated) {
-            problems.push(Problem::row(
-                label,
-                index + 1,
-                format!("the key `{key}` is written twice in this record; keep one"),
-            ));
-        }
+    for (record, key) in &table.repeated {
+        problems.push(Problem::row(
+            label,
+            *record,
+            format!("the key `{key}` is written twice in this record; keep one"),
+        ));
     }
-    if records.is_empty() {
+    problems.sort_by_key(|problem| problem.row);
+    if table.rows == 0 {
         return Err(vec![Problem::file(label, "the JSON array holds no runs")]);
     }
-    let (df, mut cell_problems) = records_to_frame(&records);
-    problems.append(&mut cell_problems);
+    let df = records_to_frame(table);
     Ok((df, problems))
 }
 
-/// Builds a DataFrame from flattened JSON records. A column whose values are all
-/// numbers becomes numeric; a column with any string keeps every value as text
-/// (numbers in their JSON spelling), so the column extractor sees exactly what was
-/// written. Booleans, arrays and empty objects are kept as their JSON text: a column
-/// gapcert reads then reports them as not numbers; other columns are not gapcert's
-/// business (a sweep's `config.tags` may be anything).
-fn records_to_frame(records: &[Option<FlatRecord>]) -> (DataFrame, Vec<Problem>) {
-    let mut names: Vec<&str> = Vec::new();
-    let mut seen = std::collections::HashSet::new();
-    for record in records.iter().flatten() {
-        for (key, _) in &record.entries {
-            if seen.insert(key.as_str()) {
-                names.push(key.as_str());
-            }
-        }
-    }
-    let mut columns = Vec::with_capacity(names.len());
-    for &name in &names {
-        let values: Vec<Option<&Value>> = records
-            .iter()
-            .map(|record| record.as_ref().and_then(|r| r.get(name)))
-            .collect();
+/// Builds a DataFrame from JSON records gathered by column. A column whose values
+/// are all numbers becomes numeric; a column with any string keeps every value as
+/// text (numbers in their JSON spelling), so the column extractor sees exactly what
+/// was written. Booleans, arrays and empty objects are kept as their JSON text: a
+/// column gapcert reads then reports them as not numbers; other columns are not
+/// gapcert's business (a sweep's `config.tags` may be anything).
+///
+/// Integers are read exactly: a column of integers that all fit in 64 bits is an
+/// integer column. A column mixing other numbers with one a double cannot hold
+/// exactly (an integer beyond 2^53, or a number too large for any integer type) is
+/// kept as text too, so one 30-digit number is reported on its own cell (if the
+/// column is gapcert's) instead of turning every count of the column into a double.
+fn records_to_frame(table: JsonTable) -> DataFrame {
+    /// Largest magnitude up to which a double holds every integer exactly.
+    const EXACT_IN_DOUBLE: f64 = 9_007_199_254_740_992.0;
+    let beyond_doubles = |value: &Value| match value {
+        Value::Number(number) => match (number.as_i64(), number.as_u64(), number.as_f64()) {
+            (Some(integer), _, _) => integer.unsigned_abs() > 1 << 53,
+            (None, Some(_), _) => true,
+            (None, None, Some(float)) => float.abs() >= EXACT_IN_DOUBLE,
+            _ => false,
+        },
+        _ => false,
+    };
+    let rows = table.rows;
+    let mut columns = Vec::with_capacity(table.names.len());
+    for (name, values) in table.names.iter().zip(table.columns) {
         let any_text = values.iter().any(|v| {
             matches!(
                 v,
@@ -1129,30 +1257,33 @@ fn records_to_frame(records: &[Option<FlatRecord>]) -> (DataFrame, Vec<Problem>)
         let all_integers = values
             .iter()
             .all(|v| !matches!(v, Some(Value::Number(n)) if n.as_i64().is_none()));
-        let series = if any_text {
+        let inexact = !all_integers && values.iter().flatten().any(beyond_doubles);
+        let series = if any_text || inexact {
             let cells: Vec<Option<String>> = values
-                .iter()
+                .into_iter()
                 .map(|value| match value {
                     None | Some(Value::Null) => None,
-                    Some(Value::String(s)) => Some(s.clone()),
+                    Some(Value::String(s)) => Some(s),
                     Some(other) => Some(other.to_string()),
                 })
                 .collect();
-            Series::new(name.into(), cells)
+            Series::new(name.as_str().into(), cells)
         } else if all_integers {
-            let cells: Vec<Option<i64>> =
-                values.iter().map(|v| v.and_then(Value::as_i64)).collect();
-            Series::new(name.into(), cells)
+            let cells: Vec<Option<i64>> = values
+                .iter()
+                .map(|v| v.as_ref().and_then(Value::as_i64))
+                .collect();
+            Series::new(name.as_str().into(), cells)
         } else {
-            let cells: Vec<Option<f64>> =
-                values.iter().map(|v| v.and_then(Value::as_f64)).collect();
-            Series::new(name.into(), cells)
+            let cells: Vec<Option<f64>> = values
+                .iter()
+                .map(|v| v.as_ref().and_then(Value::as_f64))
+                .collect();
+            Series::new(name.as_str().into(), cells)
         };
         columns.push(Column::from(series));
     }
-    let df = DataFrame::new(records.len(), columns)
-        .unwrap_or_else(|_| DataFrame::empty_with_height(records.len()));
-    (df, Vec::new())
+    DataFrame::new(rows, columns).unwrap_or_else(|_| DataFrame::empty_with_height(rows))
 }
 
 /// Installs a panic hook that stays silent while a guarded reader runs (its panic is

@@ -18,7 +18,7 @@ use std::path::PathBuf;
 use serde::{Deserialize, Serialize};
 use sha2::{Digest, Sha256};
 
-pub use discover::{discover, Discovery, FileIdentity, LogFile, LogFormat};
+pub use discover::{discover, Discovery, FileIdentity, LogFile, LogFormat, SkippedPath};
 pub use rows::SkippedRow;
 pub use settings::IngestSettings;
 
@@ -54,12 +54,17 @@ pub enum LogSource<'a> {
     /// Bytes already in memory (the demo's compiled-in logs, or a fuzzer's input),
     /// with the label they are reported under.
     Memory(&'a str, &'a [u8], LogFormat),
+    /// A path a folder walk found but could not use (a subfolder that cannot be
+    /// listed), with the reason: reported as that path's problem.
+    Unreadable(PathBuf, String),
 }
 
 impl LogFile {
     /// Where the log's bytes come from, for reading.
     pub fn source(&self) -> LogSource<'static> {
-        if self.in_folder {
+        if let Some(reason) = &self.unreadable {
+            LogSource::Unreadable(self.path.clone(), reason.clone())
+        } else if self.in_folder {
             LogSource::InFolder(self.path.clone(), self.format)
         } else {
             LogSource::Path(self.path.clone(), self.format)
@@ -75,9 +80,9 @@ pub fn not_log_files(discovery: &Discovery) -> Vec<SkippedFile> {
     discovery
         .skipped_files
         .iter()
-        .map(|path| SkippedFile {
-            path: path.display().to_string(),
-            reason: "not a log file type".to_string(),
+        .map(|skipped| SkippedFile {
+            path: skipped.path.display().to_string(),
+            reason: skipped.reason.clone(),
         })
         .collect()
 }
@@ -235,7 +240,10 @@ impl Collected {
         }
         // A file whose bytes equal an earlier one's (`runs (copy).csv`) is read once:
         // its runs would otherwise count twice, and double every K.
-        if let Some(input) = &log.input {
+        // A file that cannot be used is never a copy: six empty files are six
+        // problems, not one and five copies.
+        let usable = report.file_problems.is_empty();
+        if let (Some(input), true) = (&log.input, usable) {
             let key = (input.sha256.clone(), input.size);
             let first = match self.by_content.get(&key) {
                 Some(&at) => Some(&self.inputs[at]),
@@ -263,7 +271,6 @@ impl Collected {
                 .iter()
                 .map(|note| format!("{}: {note}", log.label)),
         );
-        let usable = report.file_problems.is_empty();
         if usable {
             if self.kept_found.len() < report.kept_found.len() {
                 self.kept_found.resize(report.kept_found.len(), false);
@@ -404,11 +411,21 @@ impl<'a> OpenedLog<'a> {
                 }
             },
             LogSource::Memory(_, bytes, _) => Cow::Borrowed(*bytes),
+            LogSource::Unreadable(_, reason) => {
+                return OpenedLog {
+                    table: Err(vec![Problem::file(&label, reason.clone())]),
+                    label,
+                    input: None,
+                    own_report: None,
+                    named_report: None,
+                };
+            }
         };
         let format = match source {
             LogSource::Path(_, format)
             | LogSource::InFolder(_, format)
             | LogSource::Memory(_, _, format) => *format,
+            LogSource::Unreadable(..) => LogFormat::Csv,
         };
         if let Some(kind) = formats::own_report_kind(&bytes, format) {
             let in_folder = matches!(source, LogSource::InFolder(..));
@@ -570,7 +587,9 @@ impl<'a> OpenedLog<'a> {
 /// The name a source is reported under.
 pub fn source_label(source: &LogSource<'_>) -> String {
     match source {
-        LogSource::Path(path, _) | LogSource::InFolder(path, _) => path.display().to_string(),
+        LogSource::Path(path, _)
+        | LogSource::InFolder(path, _)
+        | LogSource::Unreadable(path, _) => path.display().to_string(),
         LogSource::Memory(label, _, _) => label.to_string(),
     }
 }

@@ -12,11 +12,12 @@
 //! to polars, which reports it as before.
 
 use polars_arrow_format::ipc::planus::ReadAsRoot;
-use polars_arrow_format::ipc::{FooterRef, MessageHeaderRef, MessageRef, RecordBatchRef};
+use polars_arrow_format::ipc::{FooterRef, MessageHeaderRef, MessageRef, RecordBatchRef, TypeRef};
 use polars_parquet_format::thrift::protocol::TCompactInputProtocol;
 use polars_parquet_format::thrift::Error as ThriftError;
 use polars_parquet_format::{
-    FieldRepetitionType, FileMetaData, PageHeader, PageType, SchemaElement,
+    ConvertedType, FieldRepetitionType, FileMetaData, LogicalType, PageHeader, PageType,
+    SchemaElement,
 };
 
 use super::discover::LogFormat;
@@ -46,8 +47,14 @@ const MAX_DECOMPRESSED_BYTES: u64 = 1 << 32;
 /// Checks the declared sizes of a Parquet or Arrow IPC file; other formats pass.
 pub(super) fn check(label: &str, bytes: &[u8], format: LogFormat) -> Result<(), Vec<Problem>> {
     let (kind, outcome) = match format {
-        LogFormat::Parquet => ("Parquet", parquet(bytes)),
-        LogFormat::Arrow => ("Arrow IPC", arrow_ipc(bytes)),
+        LogFormat::Parquet => (
+            "Parquet",
+            parquet(bytes).and_then(|()| parquet_decimals(bytes)),
+        ),
+        LogFormat::Arrow => (
+            "Arrow IPC",
+            arrow_ipc(bytes).and_then(|()| arrow_decimals(bytes)),
+        ),
         _ => return Ok(()),
     };
     outcome.map_err(|message| {
@@ -164,6 +171,121 @@ fn parquet(bytes: &[u8]) -> Result<(), String> {
         }
     }
     Ok(())
+}
+
+/// Decimal columns: this build of polars has no decimal type and its readers stop on
+/// one (a panic, once reported as a malformed file), so they are named here, with the
+/// type, whether gapcert would read the column or not.
+fn decimal_refusal(columns: &[String]) -> Result<(), String> {
+    if columns.is_empty() {
+        return Ok(());
+    }
+    Err(format!(
+        "the column{} {} {} a decimal type, which gapcert does not read; write {} as floating-point (or integer) numbers, or drop {}",
+        if columns.len() == 1 { "" } else { "s" },
+        columns.join(", "),
+        if columns.len() == 1 { "has" } else { "have" },
+        if columns.len() == 1 { "it" } else { "them" },
+        if columns.len() == 1 { "it" } else { "them" },
+    ))
+}
+
+/// The Parquet schema's decimal leaves, as `` `name` (decimal(precision, scale)) ``.
+fn parquet_decimals(bytes: &[u8]) -> Result<(), String> {
+    let size = bytes.len();
+    if size < 12 || !bytes.ends_with(PARQUET_MAGIC) {
+        return Ok(());
+    }
+    let footer_len = u32::from_le_bytes(le4(&bytes[size - 8..size - 4])) as usize;
+    let Some(data_end) = (size - 8)
+        .checked_sub(footer_len)
+        .filter(|&start| start >= PARQUET_MAGIC.len())
+    else {
+        return Ok(());
+    };
+    let mut footer = &bytes[data_end..size - 8];
+    let mut protocol = TCompactInputProtocol::new(&mut footer, thrift_budget(footer_len));
+    let Ok(metadata) = FileMetaData::read_from_in_protocol(&mut protocol) else {
+        return Ok(());
+    };
+    let columns: Vec<String> = metadata
+        .schema
+        .iter()
+        .skip(1)
+        .filter(|field| {
+            field.converted_type == Some(ConvertedType::DECIMAL)
+                || matches!(field.logical_type, Some(LogicalType::DECIMAL(_)))
+        })
+        .map(|field| {
+            let (precision, scale) = match &field.logical_type {
+                Some(LogicalType::DECIMAL(decimal)) => (decimal.precision, decimal.scale),
+                _ => (field.precision.unwrap_or(0), field.scale.unwrap_or(0)),
+            };
+            format!("`{}` (decimal({precision}, {scale}))", field.name)
+        })
+        .collect();
+    decimal_refusal(&columns)
+}
+
+/// The Arrow IPC schema's decimal fields (nested ones by their dotted path).
+fn arrow_decimals(bytes: &[u8]) -> Result<(), String> {
+    fn collect(
+        fields: polars_arrow_format::ipc::planus::Vector<
+            '_,
+            polars_arrow_format::ipc::planus::Result<polars_arrow_format::ipc::FieldRef<'_>>,
+        >,
+        prefix: &str,
+        depth: usize,
+        out: &mut Vec<String>,
+    ) {
+        if depth > 64 {
+            return;
+        }
+        for field in fields.iter().flatten() {
+            let name = field.name().ok().flatten().unwrap_or("");
+            let path = if prefix.is_empty() {
+                name.to_string()
+            } else {
+                format!("{prefix}.{name}")
+            };
+            if let Ok(Some(TypeRef::Decimal(decimal))) = field.type_() {
+                out.push(format!(
+                    "`{path}` (decimal{}({}, {}))",
+                    decimal.bit_width().unwrap_or(128),
+                    decimal.precision().unwrap_or(0),
+                    decimal.scale().unwrap_or(0)
+                ));
+            }
+            if let Ok(Some(children)) = field.children() {
+                collect(children, &path, depth + 1, out);
+            }
+        }
+    }
+    let size = bytes.len();
+    if size < 10 || !bytes.ends_with(ARROW_MAGIC) {
+        return Ok(());
+    }
+    let footer_len = i32::from_le_bytes(le4(&bytes[size - 10..size - 6]));
+    let Some(footer_start) = usize::try_from(footer_len)
+        .ok()
+        .and_then(|len| (size - 10).checked_sub(len))
+    else {
+        return Ok(());
+    };
+    let Ok(footer) = FooterRef::read_as_root(&bytes[footer_start..size - 10]) else {
+        return Ok(());
+    };
+    let Some(fields) = footer
+        .schema()
+        .ok()
+        .flatten()
+        .and_then(|schema| schema.fields().ok().flatten())
+    else {
+        return Ok(());
+    };
+    let mut columns = Vec::new();
+    collect(fields, "", 0, &mut columns);
+    decimal_refusal(&columns)
 }
 
 /// The Parquet schema's fields directly under its root, in order.

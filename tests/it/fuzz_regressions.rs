@@ -65,7 +65,18 @@ fn saved_fuzz_crashes_stay_fixed() {
     for entry in entries {
         let path = entry.unwrap().path();
         let name = path.file_name().unwrap().to_string_lossy().to_string();
-        let format = match name.split(['-', '.']).next().unwrap_or("") {
+        let target = name.split(['-', '.']).next().unwrap_or("");
+        let bytes = std::fs::read(&path).unwrap();
+        match target {
+            "claims" => gapcert::fuzzing::exercise_claims(&bytes),
+            "certificate" => gapcert::fuzzing::exercise_certificate(&bytes),
+            _ => {}
+        }
+        let format = match target {
+            "claims" | "certificate" => {
+                replayed += 1;
+                continue;
+            }
             "ingest_csv" => LogFormat::Csv,
             "ingest_jsonl" => LogFormat::JsonLines,
             "ingest_json" => LogFormat::Json,
@@ -73,7 +84,7 @@ fn saved_fuzz_crashes_stay_fixed() {
             "ingest_arrow" => LogFormat::Arrow,
             _ => continue,
         };
-        gapcert::fuzzing::exercise(&std::fs::read(&path).unwrap(), format);
+        gapcert::fuzzing::exercise(&bytes, format);
         replayed += 1;
     }
     if replayed == 0 {
@@ -156,5 +167,30 @@ fn assert_input_error(path: &str, fragments: &[&str]) {
     assert!(!err.contains("panicked"), "{err}");
     for fragment in fragments {
         assert!(err.contains(fragment), "{fragment:?} missing in: {err}");
+    }
+}
+
+#[test]
+fn claims_and_certificate_readers_survive_fixtures_and_their_truncations() {
+    // The bodies of the `claims` and `certificate` fuzz targets: the first byte of a
+    // claims input picks the format (0: CSV).
+    for file in ["fixtures/demo/claims.csv", "fixtures/worked/claims.csv"] {
+        let bytes = std::fs::read(common::root().join(file)).unwrap();
+        for cut in [0, 1, bytes.len() / 3, bytes.len() / 2, bytes.len()] {
+            for selector in 0u8..6 {
+                let mut input = vec![selector];
+                input.extend_from_slice(&bytes[..cut]);
+                gapcert::fuzzing::exercise_claims(&input);
+            }
+        }
+    }
+    for file in [
+        "fixtures/worked/expected.json",
+        "fixtures/worked/expected_claims.json",
+    ] {
+        let bytes = std::fs::read(common::root().join(file)).unwrap();
+        for cut in [0, 1, bytes.len() / 3, bytes.len() / 2, bytes.len()] {
+            gapcert::fuzzing::exercise_certificate(&bytes[..cut]);
+        }
     }
 }
