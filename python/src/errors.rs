@@ -22,7 +22,12 @@ pub fn to_pyerr(py: Python<'_>, error: Error) -> PyErr {
         // The closing line the command line prints under the problems (what to do).
         Error::Input(problems) => (
             "input",
-            error.to_string().lines().last().unwrap_or_default().to_string(),
+            error
+                .to_string()
+                .lines()
+                .last()
+                .unwrap_or_default()
+                .to_string(),
             Some(problems.as_slice()),
         ),
     };
