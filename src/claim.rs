@@ -223,7 +223,7 @@ mod tests {
                 .wrapping_add(1442695040888963407);
             ((seed >> 33) as usize) % n
         };
-        let mut word = |stars: bool, next: &mut dyn FnMut(usize) -> usize| {
+        let word = |stars: bool, next: &mut dyn FnMut(usize) -> usize| {
             let len = next(6);
             (0..len)
                 .map(|_| alphabet[next(if stars { 6 } else { 4 })])
