@@ -322,8 +322,24 @@ fn read_whole(path: &Path) -> Result<ReadCertificate, Error> {
         ))
     };
     let value: Value = serde_json::from_str(text).map_err(not_a_certificate)?;
-    let certificate: Certificate =
-        serde_json::from_value(value.clone()).map_err(not_a_certificate)?;
+    let certificate: Certificate = match serde_json::from_value(value.clone()) {
+        Ok(certificate) => certificate,
+        // Read from the text again for the error alone, part by part: then its line
+        // and column point at the value of the wrong type (an error from the parsed
+        // value has neither, and one through the flattened document points at the
+        // end of the file).
+        Err(error) => {
+            #[derive(Deserialize)]
+            struct InfoOnly {
+                #[allow(dead_code)]
+                certificate: CertificateInfo,
+            }
+            let located = serde_json::from_str::<AuditDocument>(text)
+                .err()
+                .or_else(|| serde_json::from_str::<InfoOnly>(text).err());
+            return Err(not_a_certificate(located.unwrap_or(error)));
+        }
+    };
     if !FORMATS_READ.contains(&certificate.certificate.format.as_str()) {
         return Err(Error::Usage(format!(
             "{}: unknown certificate format {:?} (expected {CERTIFICATE_FORMAT:?})",

@@ -562,3 +562,30 @@ fn absolute_paths_inside_the_audit_folder_are_written_relative() {
     let drift = gapcert_in(copy.path(), &["verify", "audit.cert.json"]);
     assert_eq!(drift.status.code(), Some(1), "{}", common::stdout(&drift));
 }
+
+/// A value of the wrong type in a certificate is named with the line and column it
+/// is on (read from the text: an error from the parsed value has neither).
+#[test]
+fn a_type_error_in_a_certificate_names_its_line() {
+    let (dir, cert) = certified_folder();
+    let text = std::fs::read_to_string(&cert).unwrap();
+    let mut lines: Vec<String> = text.lines().map(str::to_string).collect();
+    let at = lines
+        .iter()
+        .enumerate()
+        .filter(|(_, line)| line.trim_start().starts_with("\"holdout_n\": "))
+        .nth(3)
+        .map(|(at, _)| at)
+        .expect("a fourth run");
+    let indent = &lines[at][..lines[at].find('"').unwrap()];
+    lines[at] = format!("{indent}\"holdout_n\": \"many\",");
+    std::fs::write(&cert, lines.join("\n")).unwrap();
+    let output = gapcert_in(dir.path(), &["verify", "audit.cert.json"]);
+    assert_eq!(output.status.code(), Some(2));
+    let err = common::stderr(&output);
+    assert!(
+        err.contains(&format!("line {}", at + 1)),
+        "line {}: {err}",
+        at + 1
+    );
+}
