@@ -876,7 +876,12 @@ impl Meta {
             .skipped_rows
             .iter()
             .filter(|row| row.carries_claim)
-            .count();
+            .count()
+            + self
+                .skipped_files
+                .iter()
+                .filter(|file| file.carries_claims)
+                .count();
         summary.copies_set_aside = self.copies_set_aside;
         summary.rows_read = summary.runs + summary.rows_skipped + self.copies_set_aside;
         summary.files_skipped = self.skipped_files.len();

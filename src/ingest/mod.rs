@@ -40,6 +40,11 @@ pub struct InputFile {
 pub struct SkippedFile {
     pub path: String,
     pub reason: String,
+    /// A log skipped whole under `--lenient` that may carry claims (a claim column,
+    /// `--claim-accuracy`, or columns that could not be read): it fails the gate, which
+    /// never passes on claims it could not read.
+    #[serde(default, skip_serializing_if = "std::ops::Not::not")]
+    pub carries_claims: bool,
 }
 
 /// Where a log's bytes come from.
@@ -83,6 +88,7 @@ pub fn not_log_files(discovery: &Discovery) -> Vec<SkippedFile> {
         .map(|skipped| SkippedFile {
             path: skipped.path.display().to_string(),
             reason: skipped.reason.clone(),
+            carries_claims: false,
         })
         .collect()
 }
@@ -147,6 +153,9 @@ pub struct FileReport {
     pub notes: Vec<String>,
     /// Per `--keep` name: whether the file has the column (empty when not known).
     pub kept_found: Vec<bool>,
+    /// With file problems: whether the file may carry claims (see
+    /// [`SkippedFile::carries_claims`]).
+    pub may_carry_claims: bool,
 }
 
 /// The inputs, skipped rows and files, and problems of several files, in file order.
@@ -235,6 +244,7 @@ impl Collected {
             self.skipped_files.push(SkippedFile {
                 path: log.label.clone(),
                 reason: format!("{kind}, not a log"),
+                carries_claims: false,
             });
             return false;
         }
@@ -256,6 +266,7 @@ impl Collected {
                 self.skipped_files.push(SkippedFile {
                     path: log.label.clone(),
                     reason: format!("identical to {}, whose runs are counted once", first.path),
+                    carries_claims: false,
                 });
                 self.copies_set_aside += log.rows;
                 self.file_copies.add(&first.path, &log.label);
@@ -289,6 +300,7 @@ impl Collected {
                         .map(|p| p.message.clone())
                         .collect::<Vec<_>>()
                         .join("; "),
+                    carries_claims: report.may_carry_claims,
                 });
                 self.rows_in_skipped_files += log.rows;
             } else {
@@ -580,7 +592,41 @@ impl<'a> OpenedLog<'a> {
                 "every rate, accuracy and claim in this file lies within [0, 1], so it holds fractions, but --percent reads them as percentages (0.94 would mean 0.94 %); drop --percent for this file",
             ));
         }
+        if !report.file_problems.is_empty() {
+            report.may_carry_claims = self.may_carry_claims(settings);
+        }
         report
+    }
+
+    /// Whether the file's runs may carry claims: `--claim-accuracy` gives every row
+    /// one; otherwise a column named (or mapped to) a claim column; a file whose
+    /// columns could not be read may (the gate never passes on claims it could not
+    /// read).
+    fn may_carry_claims(&self, settings: &IngestSettings) -> bool {
+        const CLAIMS: [&str; 2] = ["claimed_accuracy", "claimed_error_rate"];
+        if settings.default_claim_accuracy.is_some() {
+            return true;
+        }
+        let names: Vec<String> = match &self.table {
+            Err(_) => return true,
+            Ok(formats::LogTable::Frame(df, _)) => df
+                .get_column_names()
+                .iter()
+                .map(|name| name.to_string())
+                .collect(),
+            Ok(formats::LogTable::Parquet { bytes, .. }) => {
+                match preflight::column_names(bytes, LogFormat::Parquet) {
+                    Some(names) => names,
+                    None => return true,
+                }
+            }
+        };
+        names.iter().any(|name| {
+            CLAIMS.iter().any(|claim| name.eq_ignore_ascii_case(claim))
+                || settings.column_map.iter().any(|(canonical, theirs)| {
+                    CLAIMS.contains(&canonical.as_str()) && name == theirs
+                })
+        })
     }
 }
 

@@ -621,3 +621,52 @@ bad,1000,1.5,0.99\n",
     let doc: Value = serde_json::from_slice(&output.stdout).unwrap();
     assert_eq!(doc["skipped_rows"][0]["carries_claim"], true);
 }
+
+/// A log skipped whole under `--lenient` (here: no held-out size column) fails the
+/// gate when it may carry claims: a claim column, a column mapped to one, or
+/// `--claim-accuracy`; one without claims is skipped as before. The gate never passes
+/// on claims it could not read.
+#[test]
+fn a_log_skipped_whole_with_claims_fails_the_gate() {
+    let dir = tempfile::tempdir().unwrap();
+    let good = "run,holdout_n,holdout_error_rate,claimed_accuracy\ngood,1000,0.01,0.95\n";
+    write(dir.path(), "good.csv", good);
+    write(
+        dir.path(),
+        "claimed.csv",
+        "run,holdout_error_rate,claimed_accuracy\nlost,0.01,0.99\n",
+    );
+    write(
+        dir.path(),
+        "mapped.csv",
+        "run,holdout_error_rate,promised\nlost,0.01,0.99\n",
+    );
+    write(
+        dir.path(),
+        "unclaimed.csv",
+        "run,holdout_error_rate\nlost,0.01\n",
+    );
+    let audit = |logs: &[&str], extra: &[&str]| {
+        let mut args = vec!["audit"];
+        args.extend(logs);
+        args.extend(["--lenient", "--format", "json"]);
+        args.extend(extra);
+        let output = gapcert_in(dir.path(), &args, &[]);
+        let doc: Value = serde_json::from_slice(&output.stdout).unwrap_or(Value::Null);
+        (output.status.code(), doc)
+    };
+    let (code, doc) = audit(&["good.csv", "claimed.csv"], &[]);
+    assert_eq!(code, Some(1));
+    assert_eq!(doc["summary"]["claims_skipped"], 1);
+    assert_eq!(doc["skipped_files"][0]["carries_claims"], true);
+    let (code, _) = audit(
+        &["good.csv", "mapped.csv"],
+        &["--map", "claimed_accuracy=promised"],
+    );
+    assert_eq!(code, Some(1));
+    let (code, doc) = audit(&["good.csv", "unclaimed.csv"], &[]);
+    assert_eq!(code, Some(0), "{doc}");
+    assert!(doc["skipped_files"][0].get("carries_claims").is_none());
+    let (code, _) = audit(&["good.csv", "unclaimed.csv"], &["--claim-accuracy", "0.9"]);
+    assert_eq!(code, Some(1));
+}
