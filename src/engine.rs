@@ -576,24 +576,7 @@ impl PreparedAudit<'_> {
                 }
             }
         };
-        match &self.held {
-            Some(batches) => batches.iter().for_each(|batch| look(batch)),
-            None => reread(
-                &self.logs,
-                &self.usable,
-                &self.settings,
-                self.limits,
-                &self.file_copies,
-                &self.stream_copies,
-                &mut |_, batch| {
-                    look(&batch);
-                    true
-                },
-            ),
-        }
-        if self.settings.cancel.is_cancelled() {
-            return Err(Error::Interrupted);
-        }
+        self.each_run_batch(&mut look)?;
         for (name, best) in missing.iter().zip(closest) {
             let Some((_, suggestion)) = best else {
                 continue;
@@ -620,8 +603,15 @@ impl PreparedAudit<'_> {
                 .collect();
             named.extend(picked);
         };
+        self.each_run_batch(&mut pick)?;
+        Ok(named)
+    }
+
+    /// Hands every batch of runs to `each`, in input order, before the second pass:
+    /// the held batches, or the logs read again.
+    fn each_run_batch(&self, each: &mut dyn FnMut(&[RunInput])) -> Result<(), Error> {
         match &self.held {
-            Some(batches) => batches.iter().for_each(|batch| pick(batch)),
+            Some(batches) => batches.iter().for_each(|batch| each(batch)),
             None => reread(
                 &self.logs,
                 &self.usable,
@@ -630,7 +620,7 @@ impl PreparedAudit<'_> {
                 &self.file_copies,
                 &self.stream_copies,
                 &mut |_, batch| {
-                    pick(&batch);
+                    each(&batch);
                     true
                 },
             ),
@@ -638,7 +628,7 @@ impl PreparedAudit<'_> {
         if self.settings.cancel.is_cancelled() {
             return Err(Error::Interrupted);
         }
-        Ok(named)
+        Ok(())
     }
 
     /// Audits every run and keeps them all, with their finding sentences: the

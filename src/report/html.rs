@@ -784,7 +784,7 @@ fn run_rows(doc: &AuditDocument, run: &RunResult) -> String {
     // Why the verdict, then the findings in words: one full-width row under the run.
     let mut items = vec![format!(
         "<li class=\"why\">{} <span class=\"sub\">certifiable accuracy {}</span></li>",
-        escape_html(&run.explanation),
+        escape_html(&super::text::why_text(run, &doc.claims)),
         percent(run.certifiable_accuracy)
     )];
     if let Some(carried) = super::text::carried_line(run) {

@@ -92,7 +92,7 @@ pub fn write_markdown(
                 out,
                 "- **{}**: {}",
                 escape_markdown(&run.run),
-                escape_markdown(&run.explanation)
+                escape_markdown(&super::text::why_text(run, &doc.claims))
             )?;
             if let Some(carried) = super::text::carried_line(run) {
                 writeln!(out, "  - {}", escape_markdown(&carried))?;

@@ -136,7 +136,12 @@ pub fn write_table(
             writeln!(
                 out,
                 "{}",
-                wrap(&run.explanation, width, &format!("  {name}: "), "      ")
+                wrap(
+                    &super::text::why_text(run, &doc.claims),
+                    width,
+                    &format!("  {name}: "),
+                    "      "
+                )
             )?;
             if let Some(carried) = super::text::carried_line(run) {
                 writeln!(

@@ -232,6 +232,24 @@ pub fn verdict_text(run: &RunResult, claims: &[ClaimResult]) -> (Verdict, String
     (run.verdict, run.verdict.as_str().to_string())
 }
 
+/// Why a run got its verdict, in words: its explanation, and for a run without a
+/// claim of its own that a claims file judges (see [`verdict_text`]), that claim's
+/// verdict and evidence, so the sentence agrees with the verdict column.
+pub fn why_text(run: &RunResult, claims: &[ClaimResult]) -> String {
+    if run.verdict == Verdict::NoClaim {
+        if let Some(claim) = crate::audit::splits::file_claim_on(claims, &run.run) {
+            return format!(
+                "{} The claims file's claim {} about it is {}: {}",
+                run.explanation,
+                claim.claim,
+                claim.verdict.as_str(),
+                claim.evidence
+            );
+        }
+    }
+    run.explanation.clone()
+}
+
 /// What a run carries besides its audit, in words: the `--keep` columns and the
 /// sources of the copies set aside; `None` when neither.
 pub fn carried_line(run: &RunResult) -> Option<String> {

@@ -436,6 +436,17 @@ fn claims_file_claims_on_the_best_run_set_comparisons_left() {
         &["audit", "log.csv", "--claims", "claims.csv"],
     );
     assert!(table.contains("certified (claim release)"), "{table}");
+    // And its "Why" line agrees with that column: the claim's verdict and evidence
+    // follow the run's own sentence (which says it logs no claim).
+    let why = table
+        .lines()
+        .skip_while(|line| !line.starts_with("Why:"))
+        .collect::<Vec<_>>()
+        .join(" ");
+    assert!(
+        why.contains("claim release about it is certified"),
+        "{table}"
+    );
     // Without the claims file there is no claim.
     let (_, doc, _) = audit_files(
         &[("log.csv", WEAR_LOG)],
