@@ -49,6 +49,22 @@ pub fn stdout(output: &Output) -> String {
     String::from_utf8_lossy(&output.stdout).to_string()
 }
 
+/// Runs gapcert in `dir`, without colours and 200 columns wide.
+pub fn run_in(dir: &Path, args: &[&str]) -> Output {
+    Command::new(binary())
+        .args(args)
+        .current_dir(dir)
+        .env("NO_COLOR", "1")
+        .env("COLUMNS", "200")
+        .output()
+        .expect("run gapcert")
+}
+
+/// Bytes of an output as text (invalid UTF-8 replaced).
+pub fn text(bytes: &[u8]) -> String {
+    String::from_utf8_lossy(bytes).to_string()
+}
+
 pub fn stderr(output: &Output) -> String {
     String::from_utf8_lossy(&output.stderr).to_string()
 }

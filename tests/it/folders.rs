@@ -5,27 +5,11 @@
 //! before (`GAPCERT_BIN=<older gapcert> cargo test --release --test it folders`).
 
 use std::path::{Path, PathBuf};
-use std::process::{Command, Output};
 
 use polars::prelude::*;
 use serde_json::Value;
 
-use crate::common::{binary, root};
-
-/// Runs gapcert in `dir`.
-fn run_in(dir: &Path, args: &[&str]) -> Output {
-    Command::new(binary())
-        .args(args)
-        .current_dir(dir)
-        .env("NO_COLOR", "1")
-        .env("COLUMNS", "200")
-        .output()
-        .expect("run gapcert")
-}
-
-fn text(bytes: &[u8]) -> String {
-    String::from_utf8_lossy(bytes).to_string()
-}
+use crate::common::{root, run_in, text};
 
 /// Runs gapcert in `dir` with `--format json` and parses the document.
 fn json_in(dir: &Path, args: &[&str]) -> Value {

@@ -9,25 +9,10 @@
 //! (`GAPCERT_BIN=<older gapcert> cargo test --release --test it hostile`).
 
 use std::path::{Path, PathBuf};
-use std::process::{Command, Output};
+use std::process::Command;
 use std::time::{Duration, SystemTime};
 
-use crate::common::{binary, root};
-
-/// Runs gapcert in `dir`.
-fn run_in(dir: &Path, args: &[&str]) -> Output {
-    Command::new(binary())
-        .args(args)
-        .current_dir(dir)
-        .env("NO_COLOR", "1")
-        .env("COLUMNS", "200")
-        .output()
-        .expect("run gapcert")
-}
-
-fn text(bytes: &[u8]) -> String {
-    String::from_utf8_lossy(bytes).to_string()
-}
+use crate::common::{binary, root, run_in, text};
 
 fn write(dir: &Path, name: &str, contents: &str) -> PathBuf {
     let path = dir.join(name);
